@@ -1,0 +1,43 @@
+"""Typed errors. The library raises these; only the CLI turns them into messages and exit codes."""
+
+from __future__ import annotations
+
+
+class AdderForgeError(Exception):
+    """Base of every error the library raises on purpose."""
+
+    exit_status = 2
+
+
+class SpecError(AdderForgeError):
+    """Bad input: carries the file, 1-based line and column, and the offending field."""
+
+    def __init__(self, message: str, file: str = "<spec>", line: int = 1, col: int = 1, field: str | None = None):
+        super().__init__(message)
+        self.message = message
+        self.file = str(file)
+        self.line = line
+        self.col = col
+        self.field = field
+
+    def __str__(self) -> str:
+        return f"{self.file}:{self.line}:{self.col}: error: {self.message}"
+
+
+class ToolError(AdderForgeError):
+    """An external tool is missing or failed for a reason that is not a verification mismatch."""
+
+    def __init__(self, message: str, hint: str = ""):
+        super().__init__(message)
+        self.message = message
+        self.hint = hint
+
+    def __str__(self) -> str:
+        return f"error: {self.message}" + (f" ({self.hint})" if self.hint else "")
+
+
+class OutputError(AdderForgeError):
+    """The output folder could not be written; earlier outputs are left as they were."""
+
+    def __str__(self) -> str:
+        return f"error: {self.args[0]}"
