@@ -1,0 +1,51 @@
+"""From a validated spec to the files of its output folder, in memory."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from .ir import Network
+from .metrics import metrics
+from .registry import elaborate
+from .report import header_lines, report, to_json
+from .spec import Spec
+from .testbench import Testbench, emit_testbench
+from .verilog import emit_module
+from .vectors import make_plan
+
+TB_EXHAUSTIVE_LIMIT = 1 << 20  # the emitted testbench enumerates every input up to this many vectors
+TB_RANDOM = 2000  # random vectors beside the directed ones when it does not
+
+
+@dataclass(frozen=True)
+class Design:
+    spec: Spec
+    net: Network
+    metrics: dict
+    verilog: str
+    testbench: Testbench
+    plan: str  # how the testbench's vectors were chosen
+
+    def files(self) -> dict[str, str]:
+        n = self.spec.name
+        return {
+            f"{n}.v": self.verilog,
+            f"{n}_tb.v": self.testbench.verilog,
+            f"{n}_vectors.hex": self.testbench.vectors_hex,
+            f"{n}.json": to_json(self.report()),
+        }
+
+    def report(self, extra: dict | None = None) -> dict:
+        tb = {"testbench": {"vectors": self.testbench.count, "plan": self.plan}}
+        tb.update(extra or {})
+        return report(self.spec, self.metrics, tb)
+
+
+def design(spec: Spec, net: Network | None = None, tb_random: int = TB_RANDOM, seed: int = 1,
+           tb_exhaustive_limit: int = TB_EXHAUSTIVE_LIMIT) -> Design:
+    """Elaborate (unless a network is given, e.g. a deliberately broken one) and emit everything."""
+    net = net if net is not None else elaborate(spec)
+    m = metrics(net)
+    plan = make_plan(spec.width, spec.carry_in, tb_exhaustive_limit, tb_random, seed)
+    return Design(spec, net, m, emit_module(net, header_lines(spec, m)),
+                  emit_testbench(spec.name, spec.width, spec.carry_in, spec.carry_out, plan), plan.describe())

@@ -1,0 +1,115 @@
+"""Running the emitted testbenches in Icarus Verilog and Verilator.
+
+Many designs can share one simulator build: each testbench is instantiated in a generated top module and
+compiled with ADDER_FORGE_BATCH, which makes it raise a done flag instead of ending the simulation. A
+Verilator build costs seconds, so the test suite and `verify` of several specs build once.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from pathlib import Path
+
+from .artifacts import Design
+from .errors import ToolError
+from .tools import Command, Result, find, run
+
+SIMULATORS = ("icarus", "verilator")
+BATCH_TOP = "adder_forge_batch"
+_SUMMARY = re.compile(r"^(\w+): (\d+) passed, (\d+) failed\s*$", re.M)
+_MISMATCH = re.compile(r"^(\w+): MISMATCH (.*)$", re.M)
+
+
+@dataclass(frozen=True)
+class SimOutcome:
+    name: str
+    simulator: str
+    passed: int
+    failed: int
+    first: str | None  # the first mismatch line the testbench printed
+    exit_status: int
+    log: str
+
+    @property
+    def ok(self) -> bool:
+        return self.failed == 0 and self.passed > 0
+
+
+def batch_top(designs: list[Design]) -> str:
+    longest = max(d.testbench.count for d in designs)
+    inst = "\n".join(f"    {d.spec.name}_tb u{k} ();" for k, d in enumerate(designs))
+    done = " && ".join(f"u{k}.done" for k in range(len(designs)))
+    bad = " || ".join(f"(u{k}.failed != 0)" for k in range(len(designs)))
+    return f"""`timescale 1ns / 1ps
+module {BATCH_TOP};
+{inst}
+    initial begin
+        #{longest + 2};
+        if (!({done})) $fatal(1, "batch: a testbench did not finish");
+        if ({bad}) $fatal(1, "batch: mismatches");
+        $finish;
+    end
+endmodule
+"""
+
+
+def stage(designs: list[Design], workdir: Path) -> tuple[list[str], str, list[str]]:
+    """Write sources and vectors into workdir; return (source files, top module, defines)."""
+    workdir.mkdir(parents=True, exist_ok=True)
+    files = []
+    for d in designs:
+        for fname, text in d.files().items():
+            if not fname.endswith(".json"):
+                (workdir / fname).write_text(text, encoding="utf-8")
+        files += [f"{d.spec.name}.v", f"{d.spec.name}_tb.v"]
+    if len(designs) == 1:
+        return files, f"{designs[0].spec.name}_tb", []
+    (workdir / f"{BATCH_TOP}.v").write_text(batch_top(designs), encoding="utf-8")
+    return files + [f"{BATCH_TOP}.v"], BATCH_TOP, ["ADDER_FORGE_BATCH"]
+
+
+def commands(simulator: str, files: list[str], top: str, defines: list[str], workdir: Path,
+             timeout: float) -> list[Command]:
+    cwd = str(workdir)
+    if simulator == "icarus":
+        dflags = [f"-D{d}" for d in defines]
+        return [
+            Command((find("iverilog"), "-g2012", *dflags, "-s", top, "-o", "sim.vvp", *files), cwd, timeout=timeout),
+            Command((find("vvp"), "-n", "sim.vvp"), cwd, timeout=timeout),
+        ]
+    if simulator == "verilator":
+        dflags = [f"+define+{d}" for d in defines]
+        return [
+            Command((find("verilator"), "--binary", "-Wno-fatal", "-Wno-lint", "-Wno-style", "--top-module", top,
+                     *dflags, "-Mdir", "obj", "-o", "sim", "-j", "2", "-CFLAGS", "-std=c++20", "-CFLAGS", "-O1",
+                     *files), cwd, timeout=timeout),
+            Command(("obj/sim",), cwd, timeout=timeout),
+        ]
+    raise ToolError(f"unknown simulator '{simulator}'", "valid: " + ", ".join(SIMULATORS))
+
+
+def simulate(designs: list[Design], simulator: str, workdir: Path, timeout: float = 3600) -> list[SimOutcome]:
+    files, top, defines = stage(designs, Path(workdir))
+    build, execute = commands(simulator, files, top, defines, Path(workdir), timeout)
+    r = run(build)
+    if not r.ok:
+        raise ToolError(f"{simulator} could not build the testbench", r.tail(15))
+    res = run(execute)
+    return outcomes(designs, simulator, res)
+
+
+def outcomes(designs: list[Design], simulator: str, res: Result) -> list[SimOutcome]:
+    text = res.stdout + "\n" + res.stderr
+    summary = {m.group(1): (int(m.group(2)), int(m.group(3))) for m in _SUMMARY.finditer(text)}
+    first: dict[str, str] = {}
+    for m in _MISMATCH.finditer(text):
+        first.setdefault(m.group(1), m.group(2))
+    out = []
+    for d in designs:
+        n = d.spec.name
+        passed, failed = summary.get(n, (0, 0))
+        if n not in summary:
+            failed = d.testbench.count  # the testbench never reported: count every vector as unchecked
+        out.append(SimOutcome(n, simulator, passed, failed, first.get(n), res.returncode, res.tail(10)))
+    return out

