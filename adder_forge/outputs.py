@@ -22,6 +22,7 @@ def write_folders(out_dir: Path, folders: dict[str, dict[str, str]]) -> list[Pat
         out_dir.mkdir(parents=True, exist_ok=True)
         for name, files in folders.items():
             tmp = Path(tempfile.mkdtemp(prefix=f".{name}.new-", dir=out_dir))
+            os.chmod(tmp, 0o777 & ~_umask())  # mkdtemp makes 0700; a result folder is an ordinary one
             staged.append((tmp, out_dir / name))
             for fname, text in files.items():
                 (tmp / fname).write_text(text, encoding="utf-8")
@@ -50,7 +51,13 @@ def write_folders(out_dir: Path, folders: dict[str, dict[str, str]]) -> list[Pat
     for _, old in swapped:
         if old is not None:
             shutil.rmtree(old, ignore_errors=True)
-    return [t for t, _ in staged]
+    return [target for _, target in staged]
+
+
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
 
 
 def replace_file(path: Path, text: str) -> None:
