@@ -6,6 +6,7 @@ from collections import Counter
 
 from .cells import GATES, cost_of, levels_of
 from .ir import Network
+from .skip_timing import sensitizable_levels
 
 
 def depth(net: Network) -> list[int]:
@@ -42,6 +43,8 @@ def structure(net: Network) -> dict:
 def metrics(net: Network) -> dict:
     """The report's ``metrics`` block. Prefix figures are null for schemes without a prefix network."""
     m = structure(net)
+    # Skip-aware delay for adders with bypass multiplexers, whose gate_levels counts false paths.
+    m["sensitizable_levels"] = sensitizable_levels(net)
     prefix = {"prefix_nodes": None, "prefix_black": None, "prefix_gray": None, "prefix_levels": None,
               "prefix_fanout": None, "wire_tracks": None}
     if net.prefix is not None:

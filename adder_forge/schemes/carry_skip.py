@@ -1,0 +1,45 @@
+"""Carry-skip (carry-bypass): ripple blocks, each with a multiplexer that passes the block's carry-in
+straight to its carry out when every bit of the block propagates.
+
+When the block propagate P = p_lo & ... & p_hi-1 is 1 the rippled carry out equals the carry-in anyway, so
+the multiplexer changes no value, only timing: the structural path carry-in -> ripple -> carry out can
+never be sensitized. Those are the adder's false paths; ``gate_levels`` counts them, the skip-aware
+``sensitizable_levels`` (skip_timing.py) does not. Each bypass multiplexer has role ``skip`` and args
+(P, rippled carry out, block carry-in), which is what the timing pass reads.
+"""
+
+from dataclasses import replace
+
+from ..blocksizes import AUTO, block_option, check_block, skip_auto
+from ..registry import scheme
+from .blockparts import begin, ripple
+from .common import balanced, finish, sum_bits
+
+FALSE_PATHS = ("carry-in -> ripple -> carry out of every skipped block is a false path: "
+               "use sensitizable_levels, not gate_levels, as its delay")
+
+
+BLOCK = block_option(AUTO, "bits per skip block: k, a list from bit 0 up, or auto (variable sizes minimising "
+                     "the unit-delay estimate)", True, "carry-skip")
+
+
+@scheme("carry-skip", options=(BLOCK,), check=check_block,
+        doc="carry-skip: ripple blocks with a bypass multiplexer on the block propagate; false paths, see "
+            "sensitizable_levels")
+def carry_skip(spec):
+    f, blocks, g, p = begin(spec, skip_auto)
+    b = f.b
+    carries = []
+    carry = f.cin
+    for j, (lo, hi) in enumerate(blocks):
+        c = ripple(b, g, p, lo, hi, carry)
+        carries += c[:-1]
+        if b.is_const(carry) is not None:
+            carry = c[-1]  # a constant carry-in has nothing to bypass
+            continue
+        bp = balanced(b, b.AND, p[lo:hi], f"bp{j}", "block_pg")
+        carry = b.MUX(bp, c[-1], carry, f"skip{j}", "skip")
+    net = finish(f, sum_bits(f, p, carries), carry)
+    if any(n.role == "skip" for n in net.nodes):  # a bypass that reaches no output leaves no false path
+        net = replace(net, meta=net.meta + (("false_paths", FALSE_PATHS),))
+    return net
