@@ -45,6 +45,7 @@ def metrics(net: Network) -> dict:
     m = structure(net)
     # Skip-aware delay for adders with bypass multiplexers, whose gate_levels counts false paths.
     m["sensitizable_levels"] = sensitizable_levels(net)
+    m["notes"] = [v for k, v in net.meta if k == "note"]  # facts a scheme wants in the report
     prefix = {"prefix_nodes": None, "prefix_black": None, "prefix_gray": None, "prefix_levels": None,
               "prefix_fanout": None, "wire_tracks": None}
     if net.prefix is not None:
