@@ -1,0 +1,145 @@
+"""Parallel-prefix adders: a prefix network (prefix_networks.py) over the bitwise (g, p), then the sums.
+
+Columns: bit i is prefix column i; with a carry-in the carry-in is column 0 (generate = c_in, no propagate)
+and bit i is column i + 1, so the carry-in is one more prefix input (Harris 2003 does the same). A black
+cell is an AO21 for G = G_hi | P_hi & G_lo and an AND2 for P = P_hi & P_lo; a gray cell is the AO21 alone.
+Wires are named G<col>_<low> and P<col>_<low> after the prefix columns they span.
+
+``block: k`` (or a list of sizes from bit 0 up) makes a sparse tree: the network is pruned to the
+carries into every block (and the carry out), and each block's sums are formed for carry-in 0 and 1 by
+two ripple chains and picked by the block's carry (a carry-select sum stage, as in Lynch and
+Swartzlander's spanning-tree adder, 1992). ``block: 1`` is the dense network with s_i = p_i ^ c_i.
+
+``ling: true`` runs the network on Ling's pairs (g_i, t_i-1) with t = a | b (Ling 1981, "High-speed binary
+adder"): column i then holds the pseudo-carry H_i = g_i | c_i, and c_i+1 = t_i & H_i. The graph is the same
+cell for cell, so prefix_nodes and prefix_levels do not change; the first-level cells of two adjacent
+inputs become g_i | g_i-1 (an OR2 instead of an AO21, since t_i-1 & g_i-1 = g_i-1), and each carry that
+is used costs the AND2 back.
+"""
+
+from __future__ import annotations
+
+from ..blocksizes import block_option, check_block, resolve, spans, text
+from ..prefix_networks import NETWORKS, NetworkError, build, final_refs, prune
+from ..registry import Option, choice_option, scheme, type_name
+from .blockparts import conditional, select
+from .common import finish, generate_propagate, start
+from .ling import LING, carry, transmits
+
+
+def _int_list(key: str, what: str, lo: int, length: int | None = None):
+    def parse(v, fail):
+        if not isinstance(v, list) or (length is not None and len(v) != length):
+            fail(f"'{key}' must be {what}, got {type_name(v)}")
+        for x in v:
+            if isinstance(x, bool) or not isinstance(x, int) or x < lo:
+                fail(f"'{key}' must be {what}, got an entry {type_name(x)}")
+        return tuple(v)
+
+    return parse
+
+
+OPTIONS = (
+    choice_option("prefix", sorted(NETWORKS), "kogge-stone", "the prefix network"),
+    Option("taxonomy", _int_list("taxonomy", "a list of three integers [l, f, t], each 0 or more", 0, 3), None,
+           "for prefix: harris, Harris 2003's (l, f, t): l + f + t = ceil(log2 n) - 1 for n prefix inputs"),
+    Option("fanouts", _int_list("fanouts", "a list of lateral fanouts, powers of two, the last level first", 1),
+           None, "for prefix: knowles, the lateral fanout of each level, the last level first (Knowles 2001)"),
+    block_option(1, "sparse tree: carries every k bits (or at the ends of a list of block sizes from bit 0 up), "
+                    "sums by carry-select; 1 is dense", False, "prefix"),
+    LING,
+)
+
+
+def check_prefix(spec) -> None:
+    check_block(spec)
+    kind = NETWORKS[spec.opt("prefix")]
+    for key in ("taxonomy", "fanouts"):
+        if spec.opt(key) is not None and kind.param != key:
+            owner = next(k.name for k in NETWORKS.values() if k.param == key)
+            raise spec.error(key, f"'{key}' applies only to prefix: {owner}, not to prefix: {kind.name}")
+    if kind.param is None:
+        return
+    n = spec.width + spec.carry_in
+    context = f" (width {spec.width} plus the carry-in)" if spec.carry_in else ""
+    value = spec.opt(kind.param)
+    if value is None:
+        raise spec.error("prefix", f"prefix network '{kind.name}' needs '{kind.param}' ({_needs(kind.param)})")
+    try:
+        kind.check(n, value, context)
+    except NetworkError as exc:
+        raise spec.error(kind.param, str(exc)) from None
+
+
+def _needs(key: str) -> str:
+    return "[l, f, t] with l + f + t = ceil(log2 n) - 1" if key == "taxonomy" else \
+        "one lateral fanout per level, the last level first"
+
+
+def network_for(spec):
+    """The spec's prefix graph, pruned to the carries the sum stage and the carry out read."""
+    ci = int(spec.carry_in)
+    kind = NETWORKS[spec.opt("prefix")]
+    full = build(kind.name, spec.width + ci, spec.opt(kind.param) if kind.param else None)
+    block = spec.opt("block")
+    sizes = resolve(block, spec.width)
+    bounds = [lo for lo, _ in spans(sizes)[1:]] + ([spec.width] if spec.carry_out else [])
+    style = full.style
+    if any(s > 1 for s in sizes):
+        style += f", block {block if isinstance(block, int) else text(block)}"
+    if spec.opt("ling"):
+        style += ", ling"
+    return prune(full, [s - 1 + ci for s in bounds], style), sizes
+
+
+@scheme("prefix", options=OPTIONS, check=check_prefix,
+        doc="parallel-prefix: Kogge-Stone, Brent-Kung, Sklansky, Han-Carlson, Ladner-Fischer, Knowles, the "
+            "Harris (l, f, t) taxonomy; sparse trees with carry-select sums; Ling carries")
+def prefix_adder(spec):
+    f = start(spec)
+    b = f.b
+    ci = int(spec.carry_in)
+    ling = spec.opt("ling")
+    graph, sizes = network_for(spec)
+    if any(s > 1 for s in sizes):
+        b.meta.append(("block_sizes", text(sizes)))
+    g, p = generate_propagate(f)
+    gen = [f.cin] * ci + g
+    t = None
+    if ling:
+        t = transmits(f)
+        prop = [None] + [b.const(1)] * ci + t[: f.width - 1]  # column i + ci reads t_i-1; t_-1 = 1
+    else:
+        prop = [None] * ci + p
+    G: list[int] = []
+    P: list[int | None] = []
+
+    def val(r: int):
+        return (gen[-1 - r], prop[-1 - r]) if r < 0 else (G[r], P[r])
+
+    for c in graph.cells:
+        (gh, ph), (gl, pl) = val(c.hi), val(c.lo)
+        assert ph is not None and (c.gray or pl is not None), "a gray cell's propagate is read"
+        name = f"{c.col}_{c.low}"
+        if ling and c.hi == -1 - c.col and c.lo == -c.col:
+            G.append(b.OR(gh, gl, "G" + name, "prefix"))  # t_i-1 & g_i-1 = g_i-1
+        else:
+            G.append(b.AO21(ph, gl, gh, "G" + name, "prefix"))
+        P.append(None if c.gray else b.AND(ph, pl, "P" + name, "prefix"))
+    last = final_refs(graph)
+
+    def carry_into(s: int) -> int:  # s >= 1: the network's column for bit s - 1
+        r = last[s - 1 + ci]
+        h = val(r)[0]
+        return carry(b, t, h, s - 1) if ling and r >= 0 else h  # an input column is g_0 itself
+
+    sums: list[int] = []
+    for lo, hi in spans(sizes):
+        cb = f.cin if lo == 0 else carry_into(lo)
+        if hi - lo == 1:
+            sums.append(b.XOR(p[lo], cb, f"s{lo}", "sum"))
+            continue
+        cond = conditional(b, f.a, f.bb, g, p, lo, hi)
+        sums += [select(b, cb, cond.s0[i - lo], cond.s1[i - lo], f"s{i}") for i in range(lo, hi)]
+    cout = carry_into(f.width) if spec.carry_out else b.const(0)
+    return finish(f, sums, cout, prefix=graph)
