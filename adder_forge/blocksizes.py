@@ -93,14 +93,11 @@ def skip_delay(sizes) -> int:
     "Computer Arithmetic Algorithms"). The carry-in and carry-out paths are shorter whenever the end
     blocks have two bits or more, so the model leaves them out, as the textbooks do.
     """
-    sizes = list(sizes)
-    best = sizes[0] - 1
+    best = 0
     lead = None  # max over i < j of (k_i - 1) - i, for the running j
     for j, k in enumerate(sizes):
-        if lead is not None:
-            best = max(best, lead + (j - 1) + (k - 1))
-        best = max(best, k - 1)
-        lead = max(lead if lead is not None else k - 1 - j, k - 1 - j)
+        best = max(best, k - 1) if lead is None else max(best, k - 1, lead + (j - 1) + (k - 1))
+        lead = k - 1 - j if lead is None else max(lead, k - 1 - j)
     return best
 
 

@@ -15,8 +15,9 @@ from ..registry import scheme
 from .blockparts import begin, ripple
 from .common import balanced, finish, sum_bits
 
-FALSE_PATHS = ("carry-in -> ripple -> carry out of every skipped block is a false path: "
-               "use sensitizable_levels, not gate_levels, as its delay")
+FALSE_PATHS = ("false paths: in every bypassed block, carry-in -> ripple -> carry out can never be sensitized "
+               "(the bypass passes the carry-in whenever the ripple would); gate_levels counts those paths, "
+               "sensitizable_levels is the skip-aware delay")
 
 
 BLOCK = block_option(AUTO, "bits per skip block: k, a list from bit 0 up, or auto (variable sizes minimising "
