@@ -2,13 +2,16 @@
 
 from __future__ import annotations
 
+import os
+from collections import deque
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
 
 from .evaluate import Evaluator
 from .ir import Network
-from .vectors import Plan, VectorSet, expected, plane_bit, to_planes, valid_mask
+from .vectors import Plan, VectorSet, expected, input_planes, plane_bit, to_planes, valid_mask
 
 
 @dataclass(frozen=True)
@@ -45,9 +48,7 @@ def out_bits(net: Network) -> int:
 def check_set(ev: Evaluator, vs: VectorSet) -> tuple[int, Mismatch | None]:
     net = ev.net
     w = net.width
-    inputs = {"a": to_planes(vs.a, w), "b": to_planes(vs.b, w)}
-    if net.port("cin") is not None:
-        inputs["cin"] = to_planes(vs.cin.reshape(-1, 1), 1)
+    inputs = input_planes(vs, net.port("cin") is not None)
     outs = ev.run(inputs)
     got = outs["sum"]
     if "cout" in outs:
@@ -65,13 +66,27 @@ def check_set(ev: Evaluator, vs: VectorSet) -> tuple[int, Mismatch | None]:
     return failed, Mismatch(a, b, cin, plane_bit(want, k), plane_bit(got, k))
 
 
-def check(net: Network, plan: Plan, chunk: int = 1 << 20) -> CheckResult:
+def check(net: Network, plan: Plan, chunk: int = 1 << 20, workers: int | None = None) -> CheckResult:
+    """Check every vector of ``plan``; chunks are evaluated on ``workers`` threads (numpy releases the GIL
+    in its array loops), at most ``workers + 1`` chunks in memory, results taken in plan order."""
     ev = Evaluator(net)
+    workers = workers or min(2, os.cpu_count() or 1)
     total = failed = 0
     first = None
-    for vs in plan.chunks(chunk):
-        f, m = check_set(ev, vs)
-        total += len(vs)
+    pending: deque = deque()
+
+    def collect(fut) -> None:
+        nonlocal failed, first
+        f, m = fut.result()
         failed += f
         first = first or m
+
+    with ThreadPoolExecutor(max_workers=workers) as pool:
+        for vs in plan.chunks(chunk):
+            total += len(vs)
+            pending.append(pool.submit(check_set, ev, vs))
+            while len(pending) > workers:
+                collect(pending.popleft())
+        while pending:
+            collect(pending.popleft())
     return CheckResult("builtin", total, failed, first, plan.describe())

@@ -7,6 +7,7 @@ from bit planes (one bit of every vector packed into uint64 words) without a Pyt
 from __future__ import annotations
 
 import random
+import sys
 from dataclasses import dataclass
 from typing import Iterator
 
@@ -23,6 +24,7 @@ class VectorSet:
     a: np.ndarray  # (V, limbs) uint64
     b: np.ndarray  # (V, limbs) uint64
     cin: np.ndarray  # (V,) uint64, 0 or 1
+    index0: int | None = None  # set when the vectors are the exhaustive enumeration from this index on
 
     def __len__(self) -> int:
         return self.a.shape[0]
@@ -67,7 +69,7 @@ def exhaustive_chunks(width: int, carry_in: bool, chunk: int = 1 << 20) -> Itera
         a = (k & mask).reshape(-1, 1)
         b = ((k >> np.uint64(width)) & mask).reshape(-1, 1)
         cin = (k >> np.uint64(2 * width)) & np.uint64(1) if carry_in else np.zeros_like(k)
-        yield VectorSet(width, a, b, cin)
+        yield VectorSet(width, a, b, cin, start)
 
 
 def directed(width: int, carry_in: bool) -> list[tuple[int, int, int]]:
@@ -109,6 +111,38 @@ def random_triples(width: int, carry_in: bool, count: int, seed: int) -> list[tu
             for _ in range(count)]
 
 
+def random_set(width: int, carry_in: bool, count: int, seed: int) -> VectorSet:
+    """The vectors of ``random_triples(width, carry_in, count, seed)``, drawn in bulk.
+
+    CPython's ``getrandbits(k)`` takes ceil(k/32) 32-bit Mersenne Twister outputs, least significant
+    first, and drops the low bits of the last one when k is not a multiple of 32; one call for 32·m bits
+    returns the next m outputs unchanged. So one bulk call, cut into per-triple words, gives exactly the
+    triples of the call-by-call loop (a test compares the two) without a Python loop per vector.
+    """
+    if sys.byteorder != "little" or count == 0:
+        return from_triples(width, random_triples(width, carry_in, count, seed))
+    rng = random.Random(seed)
+    wpv = (width - 1) // 32 + 1  # 32-bit words per operand
+    per = 2 * wpv + (1 if carry_in else 0)
+    raw = rng.getrandbits(32 * per * count).to_bytes(4 * per * count, "little")
+    words = np.frombuffer(raw, dtype="<u4").reshape(count, per).astype(np.uint64)
+    top = width - 32 * (wpv - 1)  # bits taken from the last word of an operand
+
+    def operand(first: int) -> np.ndarray:
+        w = words[:, first : first + wpv].copy()
+        if top < 32:
+            w[:, -1] >>= np.uint64(32 - top)
+        n = limbs(width)
+        if wpv % 2:
+            w = np.concatenate([w, np.zeros((count, 1), dtype=np.uint64)], axis=1)
+        return np.ascontiguousarray((w[:, 0::2] | (w[:, 1::2] << np.uint64(32)))[:, :n])
+
+    a = operand(0)
+    b = operand(wpv)
+    cin = words[:, 2 * wpv] >> np.uint64(31) if carry_in else np.zeros(count, dtype=np.uint64)
+    return VectorSet(width, a, b, np.ascontiguousarray(cin))
+
+
 @dataclass(frozen=True)
 class Plan:
     """Which vectors a check uses: exhaustive when the space is small enough, else directed + random."""
@@ -134,7 +168,7 @@ class Plan:
         part = 0
         while left > 0:
             n = min(left, max(1, chunk // max(1, limbs(self.width))))
-            yield from_triples(self.width, random_triples(self.width, self.carry_in, n, rng_seed * 1000003 + part))
+            yield random_set(self.width, self.carry_in, n, rng_seed * 1000003 + part)
             left -= n
             part += 1
 
@@ -151,24 +185,118 @@ def make_plan(width: int, carry_in: bool, exhaustive_limit: int, random_count: i
 
 
 def expected(vs: VectorSet) -> np.ndarray:
-    """Reference results a + b + cin, (V, limbs(width + 1)), by integer addition outside the IR."""
+    """Reference results a + b + cin, (V, limbs(width + 1)), by integer addition outside the IR.
+
+    Up to 62 bits one uint64 addition holds the whole sum; wider operands are added limb by limb with the
+    carry between limbs (schoolbook multi-precision addition), which a test compares with Python ints.
+    """
     if vs.width <= 62:
         return (vs.a[:, 0] + vs.b[:, 0] + vs.cin).reshape(-1, 1)
+    n_in, n_out = limbs(vs.width), limbs(vs.width + 1)
+    out = np.zeros((len(vs), n_out), dtype=np.uint64)
+    carry = vs.cin.astype(np.uint64)
+    for k in range(n_in):
+        x = vs.a[:, k]
+        s = x + vs.b[:, k]
+        c1 = s < x
+        s2 = s + carry
+        carry = (c1 | (s2 < s)).astype(np.uint64)
+        out[:, k] = s2
+    if n_out > n_in:
+        out[:, n_in] = carry
+    return out
+
+
+def expected_slow(vs: VectorSet) -> np.ndarray:
+    """The same reference one vector at a time with Python integers (for tests of ``expected``)."""
     sums = [_limbs_to_int(vs.a[k]) + _limbs_to_int(vs.b[k]) + int(vs.cin[k]) for k in range(len(vs))]
     return _ints_to_limbs(sums, vs.width + 1)
 
 
 # -- bit planes ---------------------------------------------------------------------------------------------
+_TRANSPOSE_MASKS = [(32, 0x00000000FFFFFFFF), (16, 0x0000FFFF0000FFFF), (8, 0x00FF00FF00FF00FF),
+                    (4, 0x0F0F0F0F0F0F0F0F), (2, 0x3333333333333333), (1, 0x5555555555555555)]
+
+
+def transpose64(blocks: np.ndarray) -> np.ndarray:
+    """Transpose every 64x64 bit matrix in ``blocks`` (B, 64) uint64, in place: afterwards bit r of row c is
+    what bit c of row r was. Six rounds of swapping off-diagonal sub-blocks (common practice; the recursive
+    block transpose in Warren, "Hacker's Delight", 2002, ch. 7)."""
+    b = blocks.shape[0]
+    for j, mask in _TRANSPOSE_MASKS:
+        m = np.uint64(mask)
+        sh = np.uint64(j)
+        view = blocks.reshape(b, 64 // (2 * j), 2, j)
+        lo = view[:, :, 0, :]
+        hi = view[:, :, 1, :]
+        t = lo >> sh
+        t ^= hi
+        t &= m
+        hi ^= t
+        t <<= sh
+        lo ^= t
+    return blocks
+
+
 def to_planes(arr: np.ndarray, nbits: int) -> np.ndarray:
     """(V, limbs) uint64 -> (nbits, ceil(V/64)) uint64: plane j holds bit j of every vector."""
-    v = arr.shape[0]
+    v, n = arr.shape
     words = (v + 63) // 64
-    u8 = np.ascontiguousarray(arr.astype("<u8")).view(np.uint8).reshape(v, -1)
-    bits = np.unpackbits(u8, axis=1, bitorder="little")[:, :nbits]
-    if words * 64 != v:
-        bits = np.concatenate([bits, np.zeros((words * 64 - v, nbits), dtype=np.uint8)])
-    packed = np.packbits(bits, axis=0, bitorder="little")  # (words*8, nbits)
-    return np.ascontiguousarray(packed.T).view("<u8").astype(np.uint64, copy=False)
+    full = min(n, nbits // 64)  # limbs whose 64 bits are all wanted go through the block transpose
+    rest = nbits - 64 * full  # wanted bits of the next limb
+    parts = []
+    if full:
+        x = np.zeros((words * 64, full), dtype=np.uint64)
+        x[:v] = arr[:, :full]
+        blocks = np.ascontiguousarray(x.reshape(words, 64, full).transpose(0, 2, 1)).reshape(words * full, 64)
+        transpose64(blocks)  # blocks[w*full + l, c] now holds bit c of limb l of vectors 64w .. 64w + 63
+        parts.append(blocks.reshape(words, full * 64).T)
+    if rest:
+        limb = arr[:, full]
+        if rest <= 8:  # a few bits (a carry-out, a narrow operand): pack each one directly
+            rows = []
+            for j in range(rest):
+                bits = ((limb >> np.uint64(j)) & np.uint64(1)).astype(np.uint8)
+                packed = np.packbits(bits, bitorder="little")
+                packed = np.concatenate([packed, np.zeros(words * 8 - packed.size, dtype=np.uint8)])
+                rows.append(packed.view("<u8").astype(np.uint64, copy=False))
+            parts.append(np.stack(rows))
+        else:
+            x = np.zeros(words * 64, dtype=np.uint64)
+            x[:v] = limb
+            blocks = x.reshape(words, 64)
+            transpose64(blocks)
+            parts.append(blocks.T[:rest])
+    planes = parts[0] if len(parts) == 1 else np.concatenate(parts)
+    return np.ascontiguousarray(planes)
+
+
+def input_planes(vs: VectorSet, carry_in: bool) -> dict[str, np.ndarray]:
+    """Bit planes of a, b (and cin) for the evaluator.
+
+    A run of the exhaustive enumeration starting at a multiple of 64 needs no transposition: bit j < 6 of
+    the vector index is the same pattern in every word, and bit j >= 6 is constant within a word.
+    """
+    w = vs.width
+    if vs.index0 is None or vs.index0 % 64:
+        out = {"a": to_planes(vs.a, w), "b": to_planes(vs.b, w)}
+        if carry_in:
+            out["cin"] = to_planes(vs.cin.reshape(-1, 1), 1)
+        return out
+    words = (len(vs) + 63) // 64
+    word_index = np.arange(words, dtype=np.uint64) + np.uint64(vs.index0 >> 6)
+    ones = np.uint64(0xFFFFFFFFFFFFFFFF)
+    index_bits = space_bits(w, carry_in)
+    planes = np.empty((index_bits, words), dtype=np.uint64)
+    for j in range(index_bits):
+        if j < 6:
+            planes[j] = np.uint64(sum(1 << r for r in range(64) if (r >> j) & 1))
+        else:
+            planes[j] = ((word_index >> np.uint64(j - 6)) & np.uint64(1)) * ones
+    out = {"a": planes[:w], "b": planes[w : 2 * w]}
+    if carry_in:
+        out["cin"] = planes[2 * w : 2 * w + 1]
+    return out
 
 
 def plane_bit(planes: np.ndarray, k: int) -> int:

@@ -1,0 +1,99 @@
+"""The built-in evaluator's fast paths give exactly what their plain definitions give."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from adder_forge import vectors as v
+from adder_forge.builder import Builder
+from adder_forge.builtin import check
+from adder_forge.registry import elaborate
+from adder_forge.spec import make_spec
+
+WIDTHS = [1, 5, 12, 31, 32, 33, 62, 63, 64, 65, 96, 128, 200]
+
+
+@pytest.mark.parametrize("carry_in", [True, False])
+@pytest.mark.parametrize("width", WIDTHS)
+def test_bulk_random_vectors_are_the_call_by_call_ones(width, carry_in):
+    fast = v.random_set(width, carry_in, 300, 7)
+    slow = v.from_triples(width, v.random_triples(width, carry_in, 300, 7))
+    assert fast.a.shape == slow.a.shape
+    assert (fast.a == slow.a).all() and (fast.b == slow.b).all() and (fast.cin == slow.cin).all()
+
+
+@pytest.mark.parametrize("width", WIDTHS)
+def test_limb_addition_is_python_integer_addition(width):
+    vs = v.random_set(width, True, 500, 3)
+    m = (1 << width) - 1
+    extremes = v.from_triples(width, [(m, m, 1), (m, 0, 1), (m, 1, 0), (0, 0, 0)])
+    for s in (vs, extremes):
+        assert (v.expected(s) == v.expected_slow(s)).all()
+
+
+def naive_planes(arr: np.ndarray, nbits: int) -> np.ndarray:
+    ints = [int.from_bytes(row.astype("<u8").tobytes(), "little") for row in arr]
+    words = (len(ints) + 63) // 64
+    out = np.zeros((nbits, words), dtype=np.uint64)
+    for k, x in enumerate(ints):
+        for j in range(nbits):
+            if (x >> j) & 1:
+                out[j, k // 64] |= np.uint64(1 << (k % 64))
+    return out
+
+
+@pytest.mark.parametrize("width,count", [(1, 70), (7, 130), (64, 64), (65, 200), (130, 100)])
+def test_bit_planes_match_a_bit_by_bit_transposition(width, count):
+    vs = v.random_set(width, True, count, 11)
+    for arr, nbits in ((vs.a, width), (v.expected(vs), width + 1), (vs.cin.reshape(-1, 1), 1)):
+        assert (v.to_planes(arr, nbits) == naive_planes(arr, nbits)).all()
+
+
+@pytest.mark.parametrize("width,carry_in", [(1, True), (3, False), (4, True), (6, True)])
+def test_exhaustive_planes_without_transposition(width, carry_in):
+    for vs in v.exhaustive_chunks(width, carry_in, 128):
+        planes = v.input_planes(vs, carry_in)
+        live = v.valid_mask(len(vs))
+        assert ((planes["a"] & live) == (naive_planes(vs.a, width) & live)).all()
+        assert ((planes["b"] & live) == (naive_planes(vs.b, width) & live)).all()
+        if carry_in:
+            assert ((planes["cin"] & live) == (naive_planes(vs.cin.reshape(-1, 1), 1) & live)).all()
+
+
+def broken(width):
+    """A ripple adder whose carry into the top bit is stuck at 0."""
+    b = Builder("bad")
+    a = b.input("a", width)
+    x = b.input("b", width)
+    c = b.input("cin", 1, scalar=True)[0]
+    g = [b.AND(a[i], x[i]) for i in range(width)]
+    p = [b.XOR(a[i], x[i]) for i in range(width)]
+    carries = [c]
+    for i in range(width):
+        carries.append(b.AO21(p[i], carries[i], g[i]))
+    carries[width - 1] = b.const(0)
+    b.output("sum", [b.XOR(p[i], carries[i]) for i in range(width)])
+    b.output("cout", [carries[width]], scalar=True)
+    return b.finish()
+
+
+def test_threaded_exhaustive_check_counts_every_failure_and_reports_the_first():
+    w = 6
+    r = check(broken(w), v.make_plan(w, True, 1 << 20, 0, 1), chunk=512)  # 16 chunks over 2 threads
+    assert r.vectors == 1 << 13 and not r.ok
+    # The top sum bit is wrong exactly when the true carry into it is 1: count those by integer arithmetic.
+    m = (1 << (w - 1)) - 1
+    want = sum(1 for k in range(1 << 13)
+               if (((k & 63) & m) + (((k >> 6) & 63) & m) + (k >> 12)) >> (w - 1))
+    assert r.failed == want
+    first = r.first
+    assert ((first.a & m) + (first.b & m) + first.cin) >> (w - 1) == 1
+    k_first = first.a | (first.b << 6) | (first.cin << 12)
+    assert all(not (((k & 63) & m) + (((k >> 6) & 63) & m) + (k >> 12)) >> (w - 1) for k in range(k_first))
+
+
+def test_random_check_of_a_wide_adder_passes_and_a_broken_one_fails():
+    plan = v.make_plan(96, True, 0, 5000, 2)
+    assert check(elaborate(make_spec("r96", 96, "ripple")), plan).ok
+    assert not check(broken(96), plan).ok
