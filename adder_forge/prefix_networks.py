@@ -240,8 +240,8 @@ def check_taxonomy(n: int, value, context: str = "") -> None:
     l, f, t = value
     want = param_levels(n) - 1
     if l + f + t != want:
-        raise NetworkError(f"'taxonomy' [{l}, {f}, {t}] must add up to {want} for {n} prefix inputs{context} "
-                           f"(l + f + t = ceil(log2 {n}) - 1), got {l + f + t}")
+        raise NetworkError(f"'taxonomy' [{l}, {f}, {t}] adds up to {l + f + t}, but {n} prefix inputs{context} "
+                           f"need l + f + t = {want} (ceil(log2 {n}) - 1)")
 
 
 def taxonomy_rows(n: int, l: int, f: int, t: int) -> list[list[tuple[int, int]]]:
@@ -326,8 +326,8 @@ def ladner_fischer_p0(n: int) -> PrefixGraph:
 def check_fanouts(n: int, value, context: str = "") -> None:
     want = param_levels(n)
     if len(value) != want:
-        raise NetworkError(f"'fanouts' needs {want} entries for {n} prefix inputs{context} (one per level, "
-                           f"the last level first), got {len(value)}")
+        raise NetworkError(f"'fanouts' has {len(value)} entries, but {n} prefix inputs{context} need {want}, "
+                           f"one per level, the last level first")
     per_level = list(reversed(value))
     for k, f in enumerate(per_level, 1):
         if f & (f - 1):

@@ -158,13 +158,20 @@ def test_no_depth_log_n_network_beats_sergeev_minimum(k):
     assert seen >= 4  # Kogge-Stone, Sklansky, Ladner-Fischer P_0, Knowles
 
 
-@pytest.mark.parametrize("n", list(range(1, 71)) + [100, 128, 129, 256])
-def test_snir_bound_for_every_network(n):
-    """Snir 1986: cells + depth >= 2n - 2 for any prefix circuit on n inputs."""
-    graphs = list(every_network(n)) + [("harris", t, build("harris", n, t)) for t in triples(n)]
-    for name, value, g in graphs:
-        assert len(g.cells) + depth(g) >= 2 * n - 2, (name, value)
-        assert prefix_figures(g)["prefix_levels"] >= depth(g)
+def assert_snir(g, n, what):
+    """Snir 1986: cells + depth >= 2n - 2 for any prefix circuit on n inputs; rows are at least the depth."""
+    assert len(g.cells) + depth(g) >= 2 * n - 2, what
+    assert prefix_figures(g)["prefix_levels"] >= depth(g), what
+
+
+@pytest.mark.parametrize("n", [2, 13, 16, 33, 64, 100, 129])
+def test_snir_bound_for_every_family_member(n):
+    """Every (l, f, t) point, and every Knowles list up to 64 inputs (132 lists there); the named networks
+    are checked at every width in the prefix-level test below."""
+    for t in triples(n):
+        assert_snir(build("harris", n, t), n, t)
+    for k in knowles_lists(n) if n <= 64 else ():
+        assert_snir(build("knowles", n, k), n, k)
 
 
 @pytest.mark.parametrize("n", [13, 16, 32, 33])
@@ -266,7 +273,8 @@ def vectors_for(width, carry_in, rng):
 
 def test_every_network_at_every_width_1_to_70_on_the_prefix_level():
     """Symbolically (every cell's span; exhaustive over inputs because the carry operator is associative
-    and idempotent) and bit-parallel against Python integer addition, plain and with Ling's pairs."""
+    and idempotent) and bit-parallel against Python integer addition, plain and with Ling's pairs; and
+    Snir's bound (Snir 1986) for each of them."""
     rng = random.Random(3)
     for width in range(1, 71):
         for carry_in in (False, True):
@@ -276,6 +284,7 @@ def test_every_network_at_every_width_1_to_70_on_the_prefix_level():
             for name, value, g in every_network(n):
                 spans(g)
                 assert complete_columns(g) == list(range(n)), (name, value)
+                assert_snir(g, n, (name, value))
                 for st in stims:
                     r = check(g, st)
                     assert r.ok, (width, carry_in, name, value, st.ling, r.bad_columns)
@@ -306,9 +315,9 @@ def test_prefix_evaluator_catches_wrong_networks():
 
 # -- parameter errors (the spec-level messages are in test_prefix_adders.py) ------------------------------------
 def test_parameter_errors_say_what_fits():
-    with pytest.raises(NetworkError, match=r"must add up to 3 for 16 prefix inputs"):
+    with pytest.raises(NetworkError, match=r"adds up to 2, but 16 prefix inputs need l \+ f \+ t = 3"):
         check_taxonomy(16, (1, 1, 0))
-    with pytest.raises(NetworkError, match=r"needs 4 entries for 16 prefix inputs"):
+    with pytest.raises(NetworkError, match=r"has 3 entries, but 16 prefix inputs need 4"):
         check_fanouts(16, (2, 1, 1))
     with pytest.raises(NetworkError, match=r"powers of two"):
         check_fanouts(16, (3, 1, 1, 1))

@@ -20,7 +20,7 @@ is used costs the AND2 back.
 from __future__ import annotations
 
 from ..blocksizes import block_option, check_block, resolve, spans, text
-from ..prefix_networks import NETWORKS, NetworkError, build, final_refs, prune
+from ..prefix_networks import NETWORKS, NetworkError, build, final_refs, param_levels, prune
 from ..registry import Option, choice_option, scheme, type_name
 from .blockparts import conditional, select
 from .common import finish, generate_propagate, start
@@ -57,23 +57,21 @@ def check_prefix(spec) -> None:
     for key in ("taxonomy", "fanouts"):
         if spec.opt(key) is not None and kind.param != key:
             owner = next(k.name for k in NETWORKS.values() if k.param == key)
-            raise spec.error(key, f"'{key}' applies only to prefix: {owner}, not to prefix: {kind.name}")
+            raise spec.error(key, f"'{key}' applies only to 'prefix: {owner}', not to 'prefix: {kind.name}'")
     if kind.param is None:
         return
     n = spec.width + spec.carry_in
     context = f" (width {spec.width} plus the carry-in)" if spec.carry_in else ""
     value = spec.opt(kind.param)
     if value is None:
-        raise spec.error("prefix", f"prefix network '{kind.name}' needs '{kind.param}' ({_needs(kind.param)})")
+        L = param_levels(n)
+        what = f"[l, f, t] with l + f + t = {L - 1}" if kind.param == "taxonomy" else \
+            f"{L} lateral fanouts, the last level first,"
+        raise spec.error("prefix", f"'prefix: {kind.name}' needs '{kind.param}': {what} for {n} prefix inputs{context}")
     try:
         kind.check(n, value, context)
     except NetworkError as exc:
         raise spec.error(kind.param, str(exc)) from None
-
-
-def _needs(key: str) -> str:
-    return "[l, f, t] with l + f + t = ceil(log2 n) - 1" if key == "taxonomy" else \
-        "one lateral fanout per level, the last level first"
 
 
 def network_for(spec):
