@@ -77,6 +77,14 @@ def test_harris_2003_table(name, n):
     assert figures(build(name, n)) == TABLE[name](n, L)
 
 
+@pytest.mark.parametrize("n", [8, 16, 32, 64, 128])
+def test_brent_kung_rows_and_chain(n):
+    """Harris 2003 counts Brent-Kung's rows, 2L - 1; its longest chain of cells is one shorter, 2L - 2,
+    because the first cell back down reads values ready a row earlier (derived from the construction)."""
+    g = build("brent-kung", n)
+    assert prefix_figures(g)["prefix_levels"] == 2 * levels_of(n) - 1 and depth(g) == 2 * levels_of(n) - 2
+
+
 def test_harris_2003_cell_counts_at_16_and_64():
     # the issue's literal check values (Harris 2003 closed forms evaluated)
     assert [len(build(x, 16).cells) for x in ("brent-kung", "sklansky", "kogge-stone", "han-carlson")] == [26, 32, 49, 32]
