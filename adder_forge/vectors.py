@@ -125,22 +125,33 @@ def random_set(width: int, carry_in: bool, count: int, seed: int) -> VectorSet:
     wpv = (width - 1) // 32 + 1  # 32-bit words per operand
     per = 2 * wpv + (1 if carry_in else 0)
     raw = rng.getrandbits(32 * per * count).to_bytes(4 * per * count, "little")
-    words = np.frombuffer(raw, dtype="<u4").reshape(count, per).astype(np.uint64)
     top = width - 32 * (wpv - 1)  # bits taken from the last word of an operand
+    n = limbs(width)
+    if top == 32 and wpv % 2 == 0:
+        # Whole 64-bit limbs: an operand's limbs are its bytes as they lie in the stream.
+        rec = np.frombuffer(raw, dtype=np.uint8).reshape(count, 4 * per)
 
-    def operand(first: int) -> np.ndarray:
-        w = words[:, first : first + wpv].copy()
-        if top < 32:
-            w[:, -1] >>= np.uint64(32 - top)
-        n = limbs(width)
-        if wpv % 2:
-            w = np.concatenate([w, np.zeros((count, 1), dtype=np.uint64)], axis=1)
-        return np.ascontiguousarray((w[:, 0::2] | (w[:, 1::2] << np.uint64(32)))[:, :n])
+        def operand(first: int) -> np.ndarray:
+            return np.ascontiguousarray(rec[:, 4 * first : 4 * (first + wpv)]).view("<u8").astype(np.uint64, copy=False)
+    else:
+        words = np.frombuffer(raw, dtype="<u4").reshape(count, per)
+
+        def operand(first: int) -> np.ndarray:
+            out = np.zeros((count, n), dtype=np.uint64)
+            for j in range(wpv):
+                w = words[:, first + j].astype(np.uint64)
+                if j == wpv - 1 and top < 32:
+                    w >>= np.uint64(32 - top)
+                if j % 2:
+                    w <<= np.uint64(32)
+                out[:, j // 2] |= w
+            return out
 
     a = operand(0)
     b = operand(wpv)
-    cin = words[:, 2 * wpv] >> np.uint64(31) if carry_in else np.zeros(count, dtype=np.uint64)
-    return VectorSet(width, a, b, np.ascontiguousarray(cin))
+    cin = (np.frombuffer(raw, dtype="<u4").reshape(count, per)[:, 2 * wpv] >> 31).astype(np.uint64) if carry_in \
+        else np.zeros(count, dtype=np.uint64)
+    return VectorSet(width, a, b, cin)
 
 
 @dataclass(frozen=True)
@@ -214,59 +225,54 @@ def expected_slow(vs: VectorSet) -> np.ndarray:
 
 
 # -- bit planes ---------------------------------------------------------------------------------------------
-_TRANSPOSE_MASKS = [(32, 0x00000000FFFFFFFF), (16, 0x0000FFFF0000FFFF), (8, 0x00FF00FF00FF00FF),
-                    (4, 0x0F0F0F0F0F0F0F0F), (2, 0x3333333333333333), (1, 0x5555555555555555)]
+_BIT_SWAPS = ((7, 0x00AA00AA00AA00AA), (14, 0x0000CCCC0000CCCC), (28, 0x00000000F0F0F0F0))
+_SEGMENT = 1 << 15  # words per pass, so that the working set stays in cache
 
 
-def transpose64(blocks: np.ndarray) -> np.ndarray:
-    """Transpose every 64x64 bit matrix in ``blocks`` (B, 64) uint64, in place: afterwards bit r of row c is
-    what bit c of row r was. Six rounds of swapping off-diagonal sub-blocks (common practice; the recursive
-    block transpose in Warren, "Hacker's Delight", 2002, ch. 7)."""
-    b = blocks.shape[0]
-    for j, mask in _TRANSPOSE_MASKS:
-        m = np.uint64(mask)
-        sh = np.uint64(j)
-        view = blocks.reshape(b, 64 // (2 * j), 2, j)
-        lo = view[:, :, 0, :]
-        hi = view[:, :, 1, :]
-        t = lo >> sh
-        t ^= hi
-        t &= m
-        hi ^= t
-        t <<= sh
-        lo ^= t
-    return blocks
+def transpose8(words: np.ndarray) -> np.ndarray:
+    """Transpose the 8x8 bit matrix in every uint64 of ``words`` (byte r = row r), in place: afterwards bit r
+    of byte c is what bit c of byte r was. Three rounds of delta swaps (common practice; Warren, "Hacker's
+    Delight", 2002, ch. 7)."""
+    flat = words.reshape(-1)
+    tmp = np.empty(min(_SEGMENT, flat.size), dtype=np.uint64)
+    for k in range(0, flat.size, _SEGMENT):
+        x = flat[k : k + _SEGMENT]
+        t = tmp[: x.size]
+        for shift, mask in _BIT_SWAPS:
+            np.right_shift(x, np.uint64(shift), out=t)
+            t ^= x
+            t &= np.uint64(mask)
+            x ^= t
+            t <<= np.uint64(shift)
+            x ^= t
+    return words
+
+
+def _limb_planes(limb: np.ndarray, nbits: int) -> np.ndarray:
+    """(V,) uint64 with V a multiple of 64 -> (nbits, V/64) planes of its low nbits bits.
+
+    Bytes first: row k of the byte matrix holds byte k of every vector, so eight consecutive vectors' byte
+    k form one uint64; transposing that 8x8 bit matrix leaves in its byte b the bit 8k + b of those eight
+    vectors, and gathering byte b of every word gives plane 8k + b.
+    """
+    v = limb.shape[0]
+    rows = (nbits + 7) // 8
+    by = np.ascontiguousarray(limb.view(np.uint8).reshape(v, 8)[:, :rows].T)  # (rows, V)
+    words = by.view(np.uint64)  # (rows, V/8): word g of row k = byte k of vectors 8g .. 8g + 7
+    transpose8(words)
+    out = np.ascontiguousarray(words.view(np.uint8).reshape(rows, v // 8, 8).transpose(0, 2, 1))
+    return out.reshape(rows * 8, v // 8).view(np.uint64)[:nbits]
 
 
 def to_planes(arr: np.ndarray, nbits: int) -> np.ndarray:
     """(V, limbs) uint64 -> (nbits, ceil(V/64)) uint64: plane j holds bit j of every vector."""
     v, n = arr.shape
     words = (v + 63) // 64
-    full = min(n, nbits // 64)  # limbs whose 64 bits are all wanted go through the block transpose
-    rest = nbits - 64 * full  # wanted bits of the next limb
     parts = []
-    if full:
-        x = np.zeros((words * 64, full), dtype=np.uint64)
-        x[:v] = arr[:, :full]
-        blocks = np.ascontiguousarray(x.reshape(words, 64, full).transpose(0, 2, 1)).reshape(words * full, 64)
-        transpose64(blocks)  # blocks[w*full + l, c] now holds bit c of limb l of vectors 64w .. 64w + 63
-        parts.append(blocks.reshape(words, full * 64).T)
-    if rest:
-        limb = arr[:, full]
-        if rest <= 8:  # a few bits (a carry-out, a narrow operand): pack each one directly
-            rows = []
-            for j in range(rest):
-                bits = ((limb >> np.uint64(j)) & np.uint64(1)).astype(np.uint8)
-                packed = np.packbits(bits, bitorder="little")
-                packed = np.concatenate([packed, np.zeros(words * 8 - packed.size, dtype=np.uint8)])
-                rows.append(packed.view("<u8").astype(np.uint64, copy=False))
-            parts.append(np.stack(rows))
-        else:
-            x = np.zeros(words * 64, dtype=np.uint64)
-            x[:v] = limb
-            blocks = x.reshape(words, 64)
-            transpose64(blocks)
-            parts.append(blocks.T[:rest])
+    for l in range((nbits + 63) // 64):
+        limb = np.zeros(words * 64, dtype=np.uint64)
+        limb[:v] = arr[:, l]
+        parts.append(_limb_planes(limb, min(64, nbits - 64 * l)))
     planes = parts[0] if len(parts) == 1 else np.concatenate(parts)
     return np.ascontiguousarray(planes)
 
