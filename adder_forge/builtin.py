@@ -66,9 +66,16 @@ def check_set(ev: Evaluator, vs: VectorSet) -> tuple[int, Mismatch | None]:
     return failed, Mismatch(a, b, cin, plane_bit(want, k), plane_bit(got, k))
 
 
+PIECE = 1 << 18  # vectors a worker checks at a time (a multiple of 64)
+
+
 def check(net: Network, plan: Plan, chunk: int = 1 << 20, workers: int | None = None) -> CheckResult:
-    """Check every vector of ``plan``; chunks are evaluated on ``workers`` threads (numpy releases the GIL
-    in its array loops), at most ``workers + 1`` chunks in memory, results taken in plan order."""
+    """Check every vector of ``plan``.
+
+    ``chunk`` is how the plan draws its vectors (it decides which random vectors there are, as in the
+    emitted testbench); each chunk is checked in pieces on ``workers`` threads (numpy releases the GIL in its
+    array loops) while the next chunk is drawn. Results are taken in plan order.
+    """
     ev = Evaluator(net)
     workers = workers or min(2, os.cpu_count() or 1)
     total = failed = 0
@@ -84,8 +91,9 @@ def check(net: Network, plan: Plan, chunk: int = 1 << 20, workers: int | None = 
     with ThreadPoolExecutor(max_workers=workers) as pool:
         for vs in plan.chunks(chunk):
             total += len(vs)
-            pending.append(pool.submit(check_set, ev, vs))
-            while len(pending) > workers:
+            for start in range(0, len(vs), PIECE):
+                pending.append(pool.submit(check_set, ev, vs.part(start, start + PIECE)))
+            while len(pending) > 2 * workers:
                 collect(pending.popleft())
         while pending:
             collect(pending.popleft())

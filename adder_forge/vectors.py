@@ -29,6 +29,11 @@ class VectorSet:
     def __len__(self) -> int:
         return self.a.shape[0]
 
+    def part(self, start: int, stop: int) -> "VectorSet":
+        """Vectors start .. stop - 1 (start a multiple of 64 keeps the exhaustive fast path)."""
+        index0 = None if self.index0 is None else self.index0 + start
+        return VectorSet(self.width, self.a[start:stop], self.b[start:stop], self.cin[start:stop], index0)
+
     def ints(self, k: int) -> tuple[int, int, int]:
         return _limbs_to_int(self.a[k]), _limbs_to_int(self.b[k]), int(self.cin[k])
 
@@ -131,8 +136,8 @@ def random_set(width: int, carry_in: bool, count: int, seed: int) -> VectorSet:
         # Whole 64-bit limbs: an operand's limbs are its bytes as they lie in the stream.
         rec = np.frombuffer(raw, dtype=np.uint8).reshape(count, 4 * per)
 
-        def operand(first: int) -> np.ndarray:
-            return np.ascontiguousarray(rec[:, 4 * first : 4 * (first + wpv)]).view("<u8").astype(np.uint64, copy=False)
+        def operand(first: int) -> np.ndarray:  # a strided view: the copy happens where it is read
+            return rec[:, 4 * first : 4 * (first + wpv)].view("<u8")
     else:
         words = np.frombuffer(raw, dtype="<u4").reshape(count, per)
 

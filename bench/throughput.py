@@ -1,0 +1,92 @@
+"""Built-in verification speed: a 64-bit Kogge-Stone checked by the bit-parallel evaluator and by Verilator
+running the emitted testbench on the same vectors; and the 12-bit exhaustive check.
+
+    .venv/bin/python bench/throughput.py              # 1,000,000 random vectors
+    .venv/bin/python bench/throughput.py 4000000
+
+Targets (issue 5): the built-in evaluator at least 10x Verilator's vector rate; 12-bit exhaustive (2^25
+vectors with carry-in) under 5 s. Verilator's rate counts its run only (reading the vector file with
+$readmemh, simulating, comparing), not its build; the built-in rate counts drawing the vectors, the
+reference sums and the comparison.
+"""
+
+from __future__ import annotations
+
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+from common import best_of, save
+
+from adder_forge.artifacts import design
+from adder_forge.builtin import check
+from adder_forge.sim import commands, outcomes, stage
+from adder_forge.spec import make_spec
+from adder_forge.tools import run
+from adder_forge.vectors import make_plan
+
+SEED = 1
+
+
+def verilator_rate(d, repeat: int = 3) -> dict:
+    with tempfile.TemporaryDirectory(prefix="adder_forge_bench_") as tmp:
+        wd = Path(tmp)
+        files, top, defines = stage([d], wd)
+        build, execute = commands("verilator", files, top, defines, wd, 3600)
+        b = run(build)
+        if not b.ok:
+            raise SystemExit("verilator build failed:\n" + b.tail(15))
+        best, res = float("inf"), None
+        for _ in range(repeat):
+            r = run(execute)
+            if r.seconds < best:
+                best, res = r.seconds, r
+        o = outcomes([d], "verilator", res)[0]
+    n = o.passed + o.failed
+    return {"ok": o.ok, "vectors": n, "build_seconds": round(b.seconds, 2), "run_seconds": round(best, 3),
+            "vectors_per_second": round(n / best)}
+
+
+def builtin_rate(d, random_count: int, repeat: int = 3) -> dict:
+    plan = make_plan(d.spec.width, d.spec.carry_in, 0, random_count, SEED)
+    seconds, r = best_of(lambda: check(d.net, plan), repeat)
+    return {"ok": r.ok, "vectors": r.vectors, "seconds": round(seconds, 3), "vectors_per_second": round(r.vectors / seconds)}
+
+
+def exhaustive12(repeat: int = 3) -> list[dict]:
+    rows = []
+    for label, scheme, opts in (("prefix:kogge-stone", "prefix", {"prefix": "kogge-stone"}), ("ripple", "ripple", {})):
+        spec = make_spec("x12", 12, scheme, **opts)
+        d = design(spec, tb_random=0, tb_exhaustive_limit=0)
+        seconds, r = best_of(lambda: check(d.net, make_plan(12, True, 1 << 26, 0, 1)), repeat)
+        rows.append({"case": label, "ok": r.ok, "vectors": r.vectors, "seconds": round(seconds, 3)})
+        print(f"12-bit exhaustive, {label}: {r.vectors} vectors in {seconds:.2f} s ({'pass' if r.ok else 'FAIL'})",
+              flush=True)
+    return rows
+
+
+def main(random_count: int) -> None:
+    spec = make_spec("ks64", 64, "prefix", prefix="kogge-stone")
+    t = time.perf_counter()
+    d = design(spec, tb_random=random_count, seed=SEED)
+    print(f"64-bit Kogge-Stone, {d.testbench.count} vectors ({d.plan}); testbench written in "
+          f"{time.perf_counter() - t:.1f} s", flush=True)
+    vl = verilator_rate(d)
+    print(f"verilator: build {vl['build_seconds']} s, run {vl['run_seconds']} s, {vl['vectors_per_second']:,} vectors/s "
+          f"({'pass' if vl['ok'] else 'FAIL'})", flush=True)
+    bi = builtin_rate(d, random_count)
+    print(f"built-in:  {bi['seconds']} s, {bi['vectors_per_second']:,} vectors/s ({'pass' if bi['ok'] else 'FAIL'})")
+    if bi["vectors"] != vl["vectors"]:
+        raise SystemExit(f"vector counts differ: built-in {bi['vectors']}, verilator {vl['vectors']}")
+    ratio = bi["vectors_per_second"] / vl["vectors_per_second"]
+    print(f"built-in / verilator: {ratio:.1f}x (target >= 10x)")
+    ex = exhaustive12()
+    verdict = {"builtin_over_verilator": round(ratio, 1), "target_ratio": ">= 10",
+               "exhaustive12_seconds": max(r["seconds"] for r in ex), "target_exhaustive12": "< 5 s"}
+    print(verdict)
+    print("saved", save("throughput", {"verilator": vl, "builtin": bi, "exhaustive12": ex, "verdict": verdict}))
+
+
+if __name__ == "__main__":
+    main(int(sys.argv[1]) if len(sys.argv) > 1 else 1_000_000)
