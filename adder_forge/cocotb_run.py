@@ -26,7 +26,9 @@ def main(argv=None) -> int:
     os.environ.pop("PYTEST_CURRENT_TEST", None)
     work = Path(args.workdir).resolve()
     runner = get_runner(args.sim)
-    build_args = ["-Wno-fatal", "-Wno-lint", "-Wno-style"] if args.sim == "verilator" else []
+    from adder_forge.sim import VERILATOR_MAKEFLAGS
+
+    build_args = ["-Wno-fatal", "-Wno-lint", "-Wno-style", *VERILATOR_MAKEFLAGS] if args.sim == "verilator" else []
     runner.build(sources=[Path(args.source).resolve()], hdl_toplevel=args.top, build_dir=work / "build",
                  timescale=("1ns", "1ps"), build_args=build_args)
     xml = work / "results.xml"

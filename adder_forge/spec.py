@@ -115,7 +115,8 @@ def parse_spec(text: str, source: str = "<spec>") -> Spec:
         try:
             data[key] = constructor.construct_object(vnode, deep=True)
         except yaml.YAMLError as exc:
-            raise SpecError(f"invalid value for '{key}': {exc}", source, vnode.start_mark.line + 1,
+            why = getattr(exc, "problem", None) or str(exc).splitlines()[0]
+            raise SpecError(f"invalid value for '{key}': {why}", source, vnode.start_mark.line + 1,
                             vnode.start_mark.column + 1, key) from None
         pos[key] = (vnode.start_mark.line + 1, vnode.start_mark.column + 1)
         key_pos[key] = (kl, kc)
@@ -132,28 +133,29 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
         raise SpecError(message, source, line, col, key)
 
     registry = schemes()
-    for req in ("name", "width", "scheme"):
-        if req not in data:
-            line = end[0]
-            raise SpecError(f"missing required key '{req}'", source, line, 1, req)
+    every_option = {o.key for sc in registry.values() for o in sc.options}
+    scheme_name = data.get("scheme")
+    if "scheme" in data:
+        if not isinstance(scheme_name, str):
+            fail_at("scheme", f"'scheme' must be a name, got {type_name(scheme_name)}")
+        if scheme_name not in registry:
+            fail_at("scheme", f"unknown scheme '{scheme_name}'" + suggest(scheme_name, registry))
+    own: dict[str, Option] = {o.key: o for o in registry[scheme_name].options} if scheme_name else {}
 
-    scheme_name = data["scheme"]
-    if not isinstance(scheme_name, str):
-        fail_at("scheme", f"'scheme' must be a name, got {type_name(scheme_name)}")
-    if scheme_name not in registry:
-        fail_at("scheme", f"unknown scheme '{scheme_name}'" + suggest(scheme_name, registry))
-    sch = registry[scheme_name]
-    own: dict[str, Option] = {o.key: o for o in sch.options}
-    every_option = {o.key for s in registry.values() for o in s.options}
-
-    for key in data:
+    for key in data:  # misspelt keys first: "widht" should say so, not that "width" is missing
         if key in COMMON_KEYS or key in own:
             continue
-        if key in every_option:
-            users = sorted(s.name for s in registry.values() if key in {o.key for o in s.options})
+        if scheme_name and key in every_option:
+            users = sorted(sc.name for sc in registry.values() if key in {o.key for o in sc.options})
             fail_at(key, f"key '{key}' does not apply to scheme '{scheme_name}' (it is for: {', '.join(users)})",
                     at_key=True)
-        fail_at(key, f"unknown key '{key}'" + suggest(key, set(COMMON_KEYS) | set(own)), at_key=True)
+        fail_at(key, f"unknown key '{key}'" + suggest(key, set(COMMON_KEYS) | (set(own) if scheme_name else every_option)),
+                at_key=True)
+
+    for req in ("name", "width", "scheme"):
+        if req not in data:
+            raise SpecError(f"missing required key '{req}'", source, end[0], 1, req)
+    sch = registry[scheme_name]
 
     name = data["name"]
     if not isinstance(name, str):

@@ -1,0 +1,24 @@
+import os
+from pathlib import Path
+
+import pytest
+
+from adder_forge.spec import make_spec
+
+GOLDEN = Path(__file__).parent / "golden"
+REGEN = os.environ.get("ADDER_FORGE_REGEN_GOLDEN") == "1"  # set to rewrite golden files after a reviewed change
+
+
+def golden(name: str, text: str) -> None:
+    """Compare text with tests/golden/<name>; ADDER_FORGE_REGEN_GOLDEN=1 rewrites it instead."""
+    path = GOLDEN / name
+    if REGEN:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        path.write_text(text, encoding="utf-8")
+    assert path.exists(), f"golden file {path} missing: run with ADDER_FORGE_REGEN_GOLDEN=1 and review it"
+    assert text == path.read_text(encoding="utf-8")
+
+
+@pytest.fixture
+def spec():
+    return make_spec
