@@ -42,6 +42,7 @@ import math
 from dataclasses import dataclass, field
 
 from .ir import Network
+from .skip_timing import has_skip
 
 NOT_ESTIMATED = "the network holds ADD cells (Verilog +), whose structure the synthesis tool chooses"
 
@@ -294,6 +295,11 @@ def estimates(net: Network, model: EffortModel = DEFAULT_MODEL) -> dict:
     if ug is None or le is None:
         return {"unit_gate_delay": None, "unit_gate_area": None, "le_tau": None, "le_fo4": None,
                 "le_unsized_tau": None, "note": NOT_ESTIMATED}
+    note = ("estimates from the gate graph (unit-gate model; logical effort, each path sized on its own, "
+            f"output load {model.output_load:g} unit inverter(s), 1 FO4 = {model.fo4:g} tau); not sign-off timing")
+    if has_skip(net):
+        note += ("; topological: the ripple paths through each skip multiplexer are counted although they are "
+                 "false (metrics' sensitizable_levels is the skip-aware depth)")
     return {
         "unit_gate_delay": ug["delay"],
         "unit_gate_area": ug["area"],
@@ -304,6 +310,5 @@ def estimates(net: Network, model: EffortModel = DEFAULT_MODEL) -> dict:
         "le_stage_effort": le["stage_effort"],
         "unit_gate_path": ug["path"],
         "le_path": [s["node"] for s in le["path"]],
-        "note": "estimates from the gate graph (unit-gate model; logical effort, each path sized on its own, "
-                f"output load {model.output_load:g} unit inverter(s), 1 FO4 = {model.fo4:g} tau); not sign-off timing",
+        "note": note,
     }

@@ -213,7 +213,7 @@ def format_table(results: list[dict]) -> str:
     if "generic" in flows:
         notes.append("gates/depth: Yosys synth -noabc (as written); abc: Yosys abc -g with a delay script.")
     if "lut6" in flows:
-        notes.append("LUT6: Yosys synth -lut 6. ")
+        notes.append("LUT6: Yosys synth -lut 6.")
     if "ice40" in flows:
         notes.append("LUT4/carry/Fmax: iCE40 UP5K sg48, adder between registers, nextpnr seed 1.")
     seen = set()

