@@ -38,7 +38,7 @@ class Design:
     def report(self, extra: dict | None = None) -> dict:
         tb = {"testbench": {"vectors": self.testbench.count, "plan": self.plan}}
         tb.update(extra or {})
-        return report(self.spec, self.metrics, tb)
+        return report(self.spec, self.metrics, tb, self.net.meta)
 
 
 def design(spec: Spec, net: Network | None = None, tb_random: int = TB_RANDOM, seed: int = 1,
@@ -47,5 +47,5 @@ def design(spec: Spec, net: Network | None = None, tb_random: int = TB_RANDOM, s
     net = net if net is not None else elaborate(spec)
     m = metrics(net)
     plan = make_plan(spec.width, spec.carry_in, tb_exhaustive_limit, tb_random, seed)
-    return Design(spec, net, m, emit_module(net, header_lines(spec, m)),
+    return Design(spec, net, m, emit_module(net, header_lines(spec, m, net.meta)),
                   emit_testbench(spec.name, spec.width, spec.carry_in, spec.carry_out, plan), plan.describe())

@@ -101,11 +101,15 @@ def cmd_build(args) -> int:
         raise SpecError("--tb-vectors must be 0 or more", "<command line>", 1, 1, "--tb-vectors")
     designs = _designs(_load_all(args.specs), args.tb_vectors, args.seed)
     written = write_folders(Path(args.out), {d.spec.name: d.files() for d in designs})
+    from .report import describe
+
     for d, path in zip(designs, written):
         m = d.metrics
-        print(f"{d.spec.name}: {d.spec.width}-bit {d.spec.scheme}: {m['gate_count']} gates, "
-              f"{m['gate_levels']} levels, fanout {m['max_fanout']}; testbench {d.testbench.count} vectors "
-              f"({d.plan}) -> {path}/")
+        levels = f"{m['gate_levels']} levels"
+        if m.get("sensitizable_levels") is not None:
+            levels = f"{m['sensitizable_levels']} levels skip-aware ({m['gate_levels']} structural, false paths)"
+        print(f"{d.spec.name}: {describe(d.spec)}: {m['gate_count']} gates, {levels}, fanout {m['max_fanout']}; "
+              f"testbench {d.testbench.count} vectors ({d.plan}) -> {path}/")
     return EXIT_OK
 
 

@@ -27,7 +27,8 @@ def start(spec) -> Frame:
     cin = b.input("cin", 1, scalar=True)[0] if spec.carry_in else b.const(0)
     b.meta.append(("scheme", spec.scheme))
     for k, v in spec.options:
-        b.meta.append((k, _text(v)))
+        if v is not None:  # keys that do not apply to this form (e.g. taxonomy for kogge-stone)
+            b.meta.append((k, _text(v)))
     return Frame(b, a, bb, cin, spec.width, spec)
 
 
