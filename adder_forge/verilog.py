@@ -71,17 +71,27 @@ def expression(net: Network, i: int) -> str:
     raise ValueError(f"no Verilog expression for {op}")
 
 
-def _add_expr(net: Network, i: int) -> str:
+def _add_bits(net: Network, i: int, uses: list[int]) -> int:
+    """Bits an ADD's vector needs: k sums, plus the carry out only when something reads it."""
+    k = add_width(len(net.nodes[i].args))
+    carry_read = any(n.op == "PICK" and n.args[0] == i and n.param == k and uses[j] for j, n in enumerate(net.nodes))
+    return k + 1 if carry_read else k
+
+
+def _add_expr(net: Network, i: int, bits: int) -> str:
     n = net.nodes[i]
     k = add_width(len(n.args))
     a = concat(net, list(reversed(n.args[:k])))
     b = concat(net, list(reversed(n.args[k : 2 * k])))
     cin_node = net.nodes[n.args[2 * k]]
-    # Operands widened to k+1 bits by hand so that lint sees no implicit width change.
-    text = f"{{1'b0, {a}}} + {{1'b0, {b}}}"
+    # Operands widened to the vector's width by hand so that lint sees no implicit width change.
+    wide = bits > k
+    text = f"{{1'b0, {a}}} + {{1'b0, {b}}}" if wide else f"{a} + {b}"
     if cin_node.op == "CONST" and cin_node.param == 0:
         return text
-    return text + f" + {{{k}'d0, {operand(net, n.args[2 * k])}}}"
+    pad = k if wide else k - 1
+    cin = operand(net, n.args[2 * k])
+    return text + (f" + {{{pad}'d0, {cin}}}" if pad else f" + {cin}")
 
 
 def port_decls(net: Network) -> list[dict]:
@@ -97,9 +107,11 @@ def emit_module(net: Network, header: list[str]) -> str:
     from .templating import render
 
     wires, vectors = [], []
+    uses = net.uses()
     for i, n in enumerate(net.nodes):
         if n.op == "ADD":
-            vectors.append({"name": n.name, "msb": add_width(len(n.args)), "expr": _add_expr(net, i)})
+            bits = _add_bits(net, i, uses)
+            vectors.append({"name": n.name, "msb": bits - 1, "expr": _add_expr(net, i, bits)})
         elif n.op not in ("INPUT", "CONST", "PICK"):
             wires.append({"name": n.name, "expr": expression(net, i)})
     outputs = [{"name": p.name, "expr": concat(net, list(reversed(p.bits)))} for p in net.outputs]

@@ -39,14 +39,16 @@ def test_emitted_testbench_fails_with_nonzero_status(simulator, tmp_path):
     for fname, text in d.files().items():
         (tmp_path / fname).write_text(text)
     # The testbench as a user runs it: alone, no batch define; it must exit non-zero and say why.
-    if simulator == "icarus":
-        build = Command((find("iverilog"), "-g2012", "-o", "t.vvp", "brk8.v", "brk8_tb.v"), str(tmp_path))
-        exe = Command((find("vvp"), "-n", "t.vvp"), str(tmp_path))
-    else:
-        build = Command((find("verilator"), "--binary", "-Wno-fatal", "-Wno-lint", "-Wno-style", "--top-module",
-                         "brk8_tb", "-Mdir", "obj", "-o", "sim", "-CFLAGS", "-std=c++20", "brk8.v", "brk8_tb.v"),
-                        str(tmp_path))
-        exe = Command(("obj/sim",), str(tmp_path))
+    def commands(obj):  # a fresh build folder each time: Verilator may skip a rebuild of same-sized inputs
+        if simulator == "icarus":
+            return (Command((find("iverilog"), "-g2012", "-o", f"{obj}.vvp", "brk8.v", "brk8_tb.v"), str(tmp_path)),
+                    Command((find("vvp"), "-n", f"{obj}.vvp"), str(tmp_path)))
+        return (Command((find("verilator"), "--binary", "-Wno-fatal", "-Wno-lint", "-Wno-style", "--top-module",
+                         "brk8_tb", "-Mdir", obj, "-o", "sim", "-CFLAGS", "-std=c++20", "brk8.v", "brk8_tb.v"),
+                        str(tmp_path)),
+                Command((f"{obj}/sim",), str(tmp_path)))
+
+    build, exe = commands("broken")
     assert run(build).ok
     r = run(exe)
     assert r.returncode != 0
@@ -56,6 +58,7 @@ def test_emitted_testbench_fails_with_nonzero_status(simulator, tmp_path):
     good = design(spec)
     for fname, text in good.files().items():
         (tmp_path / fname).write_text(text)
+    build, exe = commands("good")
     assert run(build).ok
     r = run(exe)
     assert r.returncode == 0 and f"brk8: {good.testbench.count} passed, 0 failed" in r.stdout
