@@ -35,7 +35,9 @@ class Port:
 
 @dataclass(frozen=True)
 class PrefixCell:
-    """One cell of a parallel-prefix network: G[col:low] from (col, mid) and (mid - 1, low).
+    """One cell of a parallel-prefix network: G[col:low] from an upper span (col, mid) and a lower span
+    (j, low) with j >= mid - 1; j > mid - 1 (overlapping spans) is legal because the carry operator is
+    idempotent, and Knowles and interior Harris networks use it.
 
     ``hi`` and ``lo`` index ``PrefixGraph.cells`` or are ``-1 - column`` for a network input (a column's
     bitwise generate/propagate pair, or the carry-in as column 0 when there is one).
