@@ -33,7 +33,7 @@ def verilator_rate(d, repeat: int = 3) -> dict:
     with tempfile.TemporaryDirectory(prefix="adder_forge_bench_") as tmp:
         wd = Path(tmp)
         files, top, defines = stage([d], wd)
-        build, execute = commands("verilator", files, top, defines, wd, 3600)
+        build, execute = commands("verilator", files, top, defines, wd, 3600, quick=False)  # Verilator at its own optimisation: a fair rate
         b = run(build)
         if not b.ok:
             raise SystemExit("verilator build failed:\n" + b.tail(15))
