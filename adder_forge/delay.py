@@ -42,7 +42,7 @@ import math
 from dataclasses import dataclass, field
 
 from .ir import Network
-from .skip_timing import has_skip
+from .skip_timing import has_skip, sensitizable_levels
 
 NOT_ESTIMATED = "the network holds ADD cells (Verilog +), whose structure the synthesis tool chooses"
 
@@ -293,15 +293,19 @@ def estimates(net: Network, model: EffortModel = DEFAULT_MODEL) -> dict:
     ug = unit_gate(net)
     le = logical_effort(net, model)
     if ug is None or le is None:
-        return {"unit_gate_delay": None, "unit_gate_area": None, "le_tau": None, "le_fo4": None,
+        return {"unit_gate_delay": None, "unit_gate_delay_skip_aware": None, "unit_gate_area": None,
+                "le_tau": None, "le_fo4": None,
                 "le_unsized_tau": None, "note": NOT_ESTIMATED}
     note = ("estimates from the gate graph (unit-gate model; logical effort, each path sized on its own, "
             f"output load {model.output_load:g} unit inverter(s), 1 FO4 = {model.fo4:g} tau); not sign-off timing")
+    skip_aware = None
     if has_skip(net):
-        note += ("; topological: the ripple paths through each skip multiplexer are counted although they are "
-                 "false (metrics' sensitizable_levels is the skip-aware depth)")
+        note += ("; unit_gate_delay and the logical-effort figures are topological: the ripple paths through each "
+                 "skip multiplexer are counted although they are false; unit_gate_delay_skip_aware is not")
+        skip_aware = sensitizable_levels(net, lambda op, _nargs: UNIT_GATE[op].delay)
     return {
         "unit_gate_delay": ug["delay"],
+        "unit_gate_delay_skip_aware": skip_aware,
         "unit_gate_area": ug["area"],
         "le_tau": le["sized_tau"],
         "le_fo4": le["sized_fo4"],

@@ -160,7 +160,10 @@ def _cell(v) -> str:
 
 def _row(name: str, label: str, width: int, est: dict, syn: dict) -> tuple[list[str], list[str]]:
     errors = []
-    row = [name, label, str(width), _cell(est.get("unit_gate_delay")), _cell(est.get("unit_gate_area")),
+    ug = _cell(est.get("unit_gate_delay"))
+    if est.get("unit_gate_delay_skip_aware") is not None:
+        ug = f"{est['unit_gate_delay_skip_aware']}*"
+    row = [name, label, str(width), ug, _cell(est.get("unit_gate_area")),
            _cell(est.get("le_tau")), _cell(est.get("le_fo4"))]
     for fl in syn:
         r = syn[fl]
@@ -210,6 +213,9 @@ def format_table(results: list[dict]) -> str:
         lines.append("  ".join(c.ljust(w) if k < 2 else c.rjust(w) for k, (c, w) in enumerate(zip(row, widths))))
     notes = ["unit delay/area: unit-gate model; LE: logical effort, each path sized on its own (estimates, "
              "not sign-off). '-': not estimated, `+` is left to synthesis."]
+    if any(r["estimates"].get("unit_gate_delay_skip_aware") is not None for r in results):
+        notes.append("*: carry-skip unit delay, skip-aware (its false ripple paths not counted); LE figures count "
+                     "them (topological).")
     if "generic" in flows:
         notes.append("gates/depth: Yosys synth -noabc (as written); abc: Yosys abc -g with a delay script.")
     if "lut6" in flows:

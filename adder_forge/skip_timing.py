@@ -24,30 +24,31 @@ def has_skip(net: Network) -> bool:
     return any(n.role == SKIP and n.op == "MUX2" for n in net.nodes)
 
 
-def sensitizable_depth(net: Network) -> list[int | None]:
-    """Skip-aware arrival level of every node (None: cannot change, e.g. a constant)."""
+def sensitizable_depth(net: Network, weight=levels_of) -> list[int | None]:
+    """Skip-aware arrival of every node (None: cannot change, e.g. a constant). ``weight(op, nargs)`` is
+    a cell's delay: cells.py's levels by default, or another unit model (delay.py's unit-gate delays)."""
     arr: list[int | None] = []
     for i, n in enumerate(net.nodes):
         if not n.args:
             arr.append(None if n.op == "CONST" else 0)
         elif n.role == SKIP and n.op == "MUX2":
             s, d0, d1 = n.args
-            arr.append(_later(arr[s], arr[d1], _without(net, arr, d0, d1), plus=levels_of(n.op, 3)))
+            arr.append(_later(arr[s], arr[d1], _without(net, arr, d0, d1, weight), plus=weight(n.op, 3)))
         else:
-            arr.append(_later(*(arr[a] for a in n.args), plus=levels_of(n.op, len(n.args))))
+            arr.append(_later(*(arr[a] for a in n.args), plus=weight(n.op, len(n.args))))
     return arr
 
 
-def sensitizable_levels(net: Network) -> int | None:
+def sensitizable_levels(net: Network, weight=levels_of) -> int | None:
     """Longest sensitizable output arrival, or None when the network has no bypass (then there is nothing
     to add to ``gate_levels``)."""
     if not has_skip(net):
         return None
-    arr = sensitizable_depth(net)
+    arr = sensitizable_depth(net, weight)
     return max((arr[b] or 0 for p in net.outputs for b in p.bits), default=0)
 
 
-def _without(net: Network, arr: list[int | None], dst: int, src: int) -> int | None:
+def _without(net: Network, arr: list[int | None], dst: int, src: int, weight=levels_of) -> int | None:
     """Arrival at ``dst`` when ``src`` never changes. Only nodes after ``src`` can depend on it (the IR is
     in topological order), so the recomputation stays inside the block between the two."""
     if dst < src:
@@ -56,7 +57,7 @@ def _without(net: Network, arr: list[int | None], dst: int, src: int) -> int | N
     for x in range(src + 1, dst + 1):
         n = net.nodes[x]
         if any(a in local for a in n.args):
-            local[x] = _later(*(local.get(a, arr[a]) for a in n.args), plus=levels_of(n.op, len(n.args)))
+            local[x] = _later(*(local.get(a, arr[a]) for a in n.args), plus=weight(n.op, len(n.args)))
     return local.get(dst, arr[dst])
 
 

@@ -33,9 +33,10 @@ OPS = {
 }
 
 
-def settle_times(net, before, after):
-    """Last output change time of each transition; ``before``/``after`` map port -> list of ints."""
-    rows = gate_levels(net) + 2  # row 0: the steady state before; row r: time r - 1
+def settle_times(net, before, after, weight=levels_of):
+    """Last output change time of each transition; ``before``/``after`` map port -> list of ints.
+    ``weight(op, nargs)`` is each cell's transport delay (cells.py's levels unless given)."""
+    rows = structural_delay(net, weight) + 2  # row 0: the steady state before; row r: time r - 1
     bit_of = {node: (p.name, j) for p in net.inputs for j, node in enumerate(p.bits)}
     val = []
     for i, n in enumerate(net.nodes):
@@ -47,7 +48,7 @@ def settle_times(net, before, after):
         elif n.op == "CONST":
             v = np.full((rows, len(next(iter(before.values())))), bool(n.param))
         else:
-            idx = np.maximum(np.arange(rows) - levels_of(n.op, len(n.args)), 0)
+            idx = np.maximum(np.arange(rows) - weight(n.op, len(n.args)), 0)
             v = OPS[n.op]([val[a][idx] for a in n.args])
         val.append(v)
     last = np.full(val[0].shape[1], -1)
@@ -57,6 +58,14 @@ def settle_times(net, before, after):
             t = np.where(changed.any(0), rows - 2 - np.argmax(changed[::-1], 0), -1)
             last = np.maximum(last, t)
     return last
+
+
+def structural_delay(net, weight):
+    t = [0] * len(net.nodes)
+    for i, n in enumerate(net.nodes):
+        if n.args:
+            t[i] = max(t[a] for a in n.args) + weight(n.op, len(n.args))
+    return max(t[b] for p in net.outputs for b in p.bits)
 
 
 def transitions(width, carry_in, count, seed):
@@ -171,3 +180,24 @@ def test_no_bypass_no_note():
     """A single block without carry-out has its bypass removed as dead logic: nothing to report."""
     m = metrics(elaborate(make_spec("sk", 8, "carry-skip", block=8, carry_out=False)))
     assert m["sensitizable_levels"] is None and m["notes"] == []
+
+
+def _unit_gate(op, nargs):
+    from adder_forge.delay import UNIT_GATE
+
+    return UNIT_GATE[op].delay
+
+
+@pytest.mark.parametrize("width,block,exhaustive", [(3, 1, True), (4, 2, True), (12, 3, False), (16, "auto", False)])
+def test_skip_aware_unit_gate_delay_matches_a_transport_simulation(width, block, exhaustive):
+    """The report's unit_gate_delay_skip_aware: the same pass with the unit-gate model's delays (XOR 2),
+    checked by simulating real transitions with those delays; never later than it, below the structural."""
+    from adder_forge.delay import estimates
+
+    net = elaborate(make_spec("sk", width, "carry-skip", carry_in=True, block=block))
+    est = estimates(net)
+    pairs = all_transitions(width, True) if exhaustive else transitions(width, True, 3000, 3)
+    t = settle_times(net, *pairs, weight=_unit_gate)
+    assert t.max() <= est["unit_gate_delay_skip_aware"] < est["unit_gate_delay"]
+    if exhaustive:
+        assert t.max() == est["unit_gate_delay_skip_aware"]
