@@ -137,7 +137,7 @@ def cmd_verify(args) -> int:
     sims = _sims(args.sim)
     if args.vectors < 0:
         raise SpecError("--vectors must be 0 or more", "<command line>", 1, 1, "--vectors")
-    designs = _designs(_load_all(args.specs), seed=args.seed)
+    designs = _designs(_load_all(args.specs), tb_random=args.vectors, seed=args.seed)
     results = verify(designs, sims, args.formal, args.vectors, args.seed,
                      Path(args.keep) if args.keep else None,
                      progress=lambda m: print(f"... {m}", file=sys.stderr, flush=True))
