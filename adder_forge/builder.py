@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import re
 
-from .cells import CELLS
 from .ir import Network, Node, Port, PrefixGraph
 from .keywords import RESERVED
 

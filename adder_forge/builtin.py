@@ -47,7 +47,6 @@ def out_bits(net: Network) -> int:
 
 def check_set(ev: Evaluator, vs: VectorSet) -> tuple[int, Mismatch | None]:
     net = ev.net
-    w = net.width
     inputs = input_planes(vs, net.port("cin") is not None)
     outs = ev.run(inputs)
     got = outs["sum"]

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import difflib
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any, Callable
 
 MAX_WIDTH = 16384  # generous; schemes with super-linear size set their own, lower limit

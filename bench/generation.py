@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import subprocess
 import sys
-import time
 
 from common import ROOT, best_of, cases, save
 

@@ -1,6 +1,5 @@
 """A deliberately broken gate in an emitted module makes every check report failure."""
 
-from pathlib import Path
 
 import pytest
 
