@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import tempfile
+import time
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Callable
@@ -28,9 +29,8 @@ class Outcome:
 
 def verify(designs: list[Design], sims: list[str], formal: bool, random_count: int, seed: int,
            workdir: Path | None = None, progress: Callable[[str], None] | None = None) -> list[Outcome]:
-    import time
-
     say = progress or (lambda _m: None)
+    plans = {d.spec.name: d.plan for d in designs}
     out: list[Outcome] = []
     for d in designs:
         t = time.monotonic()
@@ -46,7 +46,7 @@ def verify(designs: list[Design], sims: list[str], formal: bool, random_count: i
                 say(f"{sim}: building and running {len(designs)} testbench(es)")
                 t = time.monotonic()
                 for o in simulate(designs, sim, base / sim):
-                    detail = d_plan(designs, o.name) if o.ok else (
+                    detail = plans[o.name] if o.ok else (
                         f"first failing vector: {o.first}" if o.first else f"no result (exit {o.exit_status}): {o.log}")
                     out.append(Outcome(o.name, sim, o.ok, o.passed + o.failed, o.failed, detail, time.monotonic() - t))
         for sim in ("icarus", "verilator"):
@@ -72,10 +72,3 @@ def verify(designs: list[Design], sims: list[str], formal: bool, random_count: i
                     f"counterexample: {p.counterexample.describe(d.spec.width)}" if p.counterexample else p.log)
                 out.append(Outcome(d.spec.name, "formal", p.ok, 0, 0 if p.ok else 1, detail, p.seconds))
     return out
-
-
-def d_plan(designs: list[Design], name: str) -> str:
-    for d in designs:
-        if d.spec.name == name:
-            return d.plan
-    return ""
