@@ -50,32 +50,32 @@ def concat(net: Network, msb_first: list[int]) -> str:
     return parts[0] if len(parts) == 1 else "{" + ", ".join(parts) + "}"
 
 
+# Verilog text of each gate; {0}, {1}, {2} are the cell's arguments in IR order (MUX2: s, d0, d1).
+_FORMAT = {
+    "NOT": "~{0}",
+    "AND2": "{0} & {1}",
+    "OR2": "{0} | {1}",
+    "XOR2": "{0} ^ {1}",
+    "XNOR2": "~({0} ^ {1})",
+    "AO21": "({0} & {1}) | {2}",
+    "MUX2": "{0} ? {2} : {1}",
+}
+
+
 def expression(net: Network, i: int) -> str:
     n = net.nodes[i]
-    x = [operand(net, a) for a in n.args]
-    op = n.op
-    if op == "NOT":
-        return f"~{x[0]}"
-    if op == "AND2":
-        return f"{x[0]} & {x[1]}"
-    if op == "OR2":
-        return f"{x[0]} | {x[1]}"
-    if op == "XOR2":
-        return f"{x[0]} ^ {x[1]}"
-    if op == "XNOR2":
-        return f"~({x[0]} ^ {x[1]})"
-    if op == "AO21":
-        return f"({x[0]} & {x[1]}) | {x[2]}"
-    if op == "MUX2":
-        return f"{x[0]} ? {x[2]} : {x[1]}"
-    raise ValueError(f"no Verilog expression for {op}")
+    if n.op not in _FORMAT:
+        raise ValueError(f"no Verilog expression for {n.op}")
+    return _FORMAT[n.op].format(*(operand(net, a) for a in n.args))
 
 
-def _add_bits(net: Network, i: int, uses: list[int]) -> int:
-    """Bits an ADD's vector needs: k sums, plus the carry out only when something reads it."""
-    k = add_width(len(net.nodes[i].args))
-    carry_read = any(n.op == "PICK" and n.args[0] == i and n.param == k and uses[j] for j, n in enumerate(net.nodes))
-    return k + 1 if carry_read else k
+def _read_carries(net: Network, uses: list[int]) -> set[int]:
+    """ADD cells whose carry-out bit something reads (the vector then needs k + 1 bits, else k)."""
+    out = set()
+    for j, n in enumerate(net.nodes):
+        if n.op == "PICK" and uses[j] and n.param == add_width(len(net.nodes[n.args[0]].args)):
+            out.add(n.args[0])
+    return out
 
 
 def _add_expr(net: Network, i: int, bits: int) -> str:
@@ -107,10 +107,10 @@ def emit_module(net: Network, header: list[str]) -> str:
     from .templating import render
 
     wires, vectors = [], []
-    uses = net.uses()
+    carried = _read_carries(net, net.uses())
     for i, n in enumerate(net.nodes):
         if n.op == "ADD":
-            bits = _add_bits(net, i, uses)
+            bits = add_width(len(n.args)) + (i in carried)
             vectors.append({"name": n.name, "msb": bits - 1, "expr": _add_expr(net, i, bits)})
         elif n.op not in ("INPUT", "CONST", "PICK"):
             wires.append({"name": n.name, "expr": expression(net, i)})
