@@ -11,7 +11,7 @@ import sys
 from pathlib import Path
 
 from . import __version__
-from .errors import AdderForgeError, OutputError, SpecError, ToolError
+from .errors import AdderForgeError, OutputConflict, OutputError, SpecError, ToolError
 
 EXIT_OK, EXIT_MISMATCH, EXIT_INPUT, EXIT_TOOL = 0, 1, 2, 3
 
@@ -32,6 +32,8 @@ def _parser() -> argparse.ArgumentParser:
     b.add_argument("--tb-vectors", type=int, default=2000, metavar="N",
                    help="random vectors in the testbench when it is not exhaustive (default 2000)")
     b.add_argument("--seed", type=int, default=1, metavar="S")
+    b.add_argument("--force", action="store_true",
+                   help="replace output files that adder_forge did not write or that were edited since")
 
     v = sub.add_parser("verify", help="check that each spec's adder adds: built-in, simulators, formal")
     v.add_argument("specs", nargs="+", metavar="SPEC")
@@ -47,6 +49,8 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("specs", nargs="+", metavar="SPEC")
     r.add_argument("--synth", default="", metavar="FLOWS", help="comma list of generic, lut6, ice40")
     r.add_argument("--out", default="out", metavar="DIR")
+    r.add_argument("--force", action="store_true",
+                   help="replace output files that adder_forge did not write or that were edited since")
 
     d = sub.add_parser("dump", help="print the gate-level IR of a spec as text")
     d.add_argument("spec", metavar="SPEC")
@@ -65,6 +69,9 @@ def main(argv: list[str] | None = None) -> int:
     except ToolError as exc:
         print(f"adder-forge: {exc}", file=sys.stderr)
         return EXIT_TOOL
+    except OutputConflict as exc:
+        print(str(exc), file=sys.stderr)
+        return EXIT_INPUT
     except OutputError as exc:
         print(f"adder-forge: {exc}", file=sys.stderr)
         return EXIT_TOOL
@@ -95,21 +102,23 @@ def _designs(specs, tb_random: int = 2000, seed: int = 1):
 
 
 def cmd_build(args) -> int:
+    from .measure import output_folder
     from .outputs import write_folders
 
     if args.tb_vectors < 0:
         raise SpecError("--tb-vectors must be 0 or more", "<command line>", 1, 1, "--tb-vectors")
     designs = _designs(_load_all(args.specs), args.tb_vectors, args.seed)
-    written = write_folders(Path(args.out), {d.spec.name: d.files() for d in designs})
+    written = write_folders(Path(args.out), [output_folder(d) for d in designs], force=args.force)
     from .report import describe
 
-    for d, path in zip(designs, written):
+    for d, w in zip(designs, written):
+        path = w.path
         m = d.metrics
         levels = f"{m['gate_levels']} levels"
         if m.get("sensitizable_levels") is not None:
             levels = f"{m['sensitizable_levels']} levels skip-aware ({m['gate_levels']} structural, false paths)"
         print(f"{d.spec.name}: {describe(d.spec)}: {m['gate_count']} gates, {levels}, fanout {m['max_fanout']}; "
-              f"testbench {d.testbench.count} vectors ({d.plan}) -> {path}/")
+              f"testbench {d.testbench.count} vectors ({d.plan}) -> {path}/" + "".join(f"; {n}" for n in w.notes))
     return EXIT_OK
 
 
@@ -159,7 +168,8 @@ def cmd_report(args) -> int:
 
     flows = [f.strip() for f in args.synth.split(",") if f.strip()]
     specs = _load_all(args.specs)
-    results = measure_specs(specs, flows, Path(args.out), progress=lambda m: print(f"... {m}", file=sys.stderr, flush=True))
+    results = measure_specs(specs, flows, Path(args.out), progress=lambda m: print(f"... {m}", file=sys.stderr, flush=True),
+                            force=args.force)
     print(format_table(results))
     return EXIT_OK
 
