@@ -7,6 +7,7 @@ or failed.
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 from pathlib import Path
 
@@ -43,7 +44,7 @@ def _parser() -> argparse.ArgumentParser:
     v.add_argument("--vectors", type=int, default=4096, metavar="N",
                    help="random vectors beside the directed ones where a check is not exhaustive (default 4096)")
     v.add_argument("--seed", type=int, default=1, metavar="S")
-    v.add_argument("--keep", metavar="DIR", help="keep simulator build folders in DIR")
+    v.add_argument("--keep", metavar="DIR", help="keep simulator build folders in DIR (a folder)")
 
     r = sub.add_parser("report", help="estimates and synthesis figures, beside the plain + baseline")
     r.add_argument("specs", nargs="+", metavar="SPEC")
@@ -146,11 +147,13 @@ def cmd_verify(args) -> int:
     sims = _sims(args.sim)
     if args.vectors < 0:
         raise SpecError("--vectors must be 0 or more", "<command line>", 1, 1, "--vectors")
+    keep = _keep_folder(args.keep) if args.keep else None
     designs = _designs(_load_all(args.specs), tb_random=args.vectors, seed=args.seed)
-    results = verify(designs, sims, args.formal, args.vectors, args.seed,
-                     Path(args.keep) if args.keep else None,
-                     progress=lambda m: print(f"... {m}", file=sys.stderr, flush=True))
-    width = max(len(o.name) for o in results)
+    found = verify(designs, sims, args.formal, args.vectors, args.seed, keep,
+                   progress=lambda m: print(f"... {m}", file=sys.stderr, flush=True))
+    results, stopped = found.outcomes, found.stopped
+    names = [o.name for o in results] + ([stopped.name] if stopped else [])
+    width = max(len(n) for n in names)
     bad = 0
     for o in results:
         status = "pass" if o.ok else "FAIL"
@@ -159,8 +162,26 @@ def cmd_verify(args) -> int:
             count = f"{o.failed} of {o.vectors} vectors failed"
         print(f"{o.name:<{width}}  {o.checker:<16} {status}  {count + '; ' if count else ''}{o.detail}")
         bad += not o.ok
-    print(f"{len(results) - bad} passed, {bad} failed")
-    return EXIT_MISMATCH if bad else EXIT_OK
+    if stopped is None:
+        print(f"{len(results) - bad} passed, {bad} failed")
+        return EXIT_MISMATCH if bad else EXIT_OK
+    why = stopped.error.message + (f": {stopped.error.hint.strip().splitlines()[-1]}" if stopped.error.hint.strip() else "")
+    print(f"{stopped.name:<{width}}  {stopped.checker:<16} ERROR {why}")
+    print(f"{len(results) - bad} passed, {bad} failed; {stopped.checker} could not run, later checks skipped")
+    print(f"adder-forge: {stopped.error}", file=sys.stderr)
+    return EXIT_MISMATCH if bad else EXIT_TOOL  # a mismatch already found outranks a tool that failed
+
+
+def _keep_folder(value: str) -> Path:
+    keep = Path(value)
+    if os.path.lexists(keep) and not keep.is_dir():
+        raise SpecError(f"--keep {value}: is a file, not a folder", "<command line>", 1, 1, "--keep")
+    try:
+        keep.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise SpecError(f"--keep {value}: cannot make the folder ({exc.strerror or exc})", "<command line>", 1, 1,
+                        "--keep") from None
+    return keep
 
 
 def cmd_report(args) -> int:
