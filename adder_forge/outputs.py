@@ -270,7 +270,48 @@ def _write(path: Path, text: str) -> None:
         os.fsync(fh.fileno())
 
 
+class _Terminated(BaseException):
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signum
+
+
+@contextlib.contextmanager
+def _terminate_raises() -> Iterator[None]:
+    """While a write is under way, SIGTERM and SIGHUP (a CI timeout, a closed terminal) undo it like Ctrl-C
+    does; the process then dies of the same signal, as it would have without us."""
+    import signal
+    import threading
+
+    names = [n for n in ("SIGTERM", "SIGHUP") if hasattr(signal, n)]
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+
+    def handler(signum, _frame):
+        raise _Terminated(signum)
+
+    old = {n: signal.signal(getattr(signal, n), handler) for n in names}
+    try:
+        yield
+    except _Terminated as exc:
+        for n, h in old.items():
+            signal.signal(getattr(signal, n), h)
+        old = {}
+        signal.signal(exc.signum, signal.SIG_DFL)
+        os.kill(os.getpid(), exc.signum)
+        raise  # not reached where the signal kills; kept for platforms where it does not
+    finally:
+        for n, h in old.items():
+            signal.signal(getattr(signal, n), h)
+
+
 def _commit(out_dir: Path, plans: list[_Plan]) -> None:
+    with _terminate_raises():
+        _transaction(out_dir, plans)
+
+
+def _transaction(out_dir: Path, plans: list[_Plan]) -> None:
     try:
         stage = Path(tempfile.mkdtemp(prefix=STAGE_PREFIX, dir=out_dir))
     except OSError as exc:
