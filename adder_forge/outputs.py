@@ -128,18 +128,22 @@ def _make_dir(out_dir: Path) -> None:
         raise OutputError(f"cannot create {out_dir}: {exc.strerror or exc}") from None
 
 
-def _ours_unchanged(path: Path, ours: dict[str, str], force: bool) -> bool:
+def _ours_unchanged(path: Path, ours: dict[str, str] | None, force: bool) -> bool:
     """May ``path`` be replaced? True when it is ours and unchanged, False when it does not exist or
-    ``force`` lets us replace it anyway; otherwise OutputConflict naming it."""
+    ``force`` lets us replace it anyway; otherwise OutputConflict naming it. ``ours``: the folder's
+    manifest entries, None when the folder has no manifest."""
     if path.is_dir():
         raise OutputConflict(path, "is a folder where adder_forge writes a file; move it away")
     if not os.path.lexists(path):
         return False
-    if path.name in ours and not path.is_symlink() and _sha256_file(path) == ours[path.name]:
+    if ours and path.name in ours and not path.is_symlink() and _sha256_file(path) == ours[path.name]:
         return True
     if force:
         return False
-    why = "was changed since adder_forge wrote it" if path.name in ours else "exists and was not written by adder_forge"
+    if ours and path.name in ours:
+        why = "was changed since adder_forge wrote it"
+    else:
+        why = "exists and was not written by adder_forge" + ("" if ours is not None else f" (no {MANIFEST} beside it)")
     raise OutputConflict(path, f"{why}; move it away or pass --force to replace it")
 
 
@@ -148,7 +152,7 @@ def _plan_folder(out_dir: Path, folder: Folder, force: bool) -> _Plan:
     _check_dir(target)
     plan = _Plan(target)
     old = read_manifest(target) if target.is_dir() else None
-    ours = old["files"] if old else {}
+    ours = old["files"] if old else None
     same = bool(old) and bool(folder.design) and old.get("design") == folder.design
     written: dict[str, str] = {}
     for fname, text in folder.files.items():
@@ -158,7 +162,7 @@ def _plan_folder(out_dir: Path, folder: Folder, force: bool) -> _Plan:
             if note:
                 plan.notes.append(note)
         written[fname] = text
-    for fname, digest in sorted(ours.items()):
+    for fname, digest in sorted((ours or {}).items()):
         if fname in folder.files:
             continue
         path = target / fname
@@ -198,21 +202,16 @@ def update_files(out_dir: Path, name: str, files: dict[str, str], force: bool = 
     with _locked(out_dir):
         recover(out_dir)
         old = read_manifest(target)
-        ours = dict(old["files"]) if old else {}
+        ours = dict(old["files"]) if old else None
         plan = _Plan(target)
         for fname, text in files.items():
             _ours_unchanged(target / fname, ours, force)
             plan.writes[fname] = text
-        ours.update({k: sha256_text(v) for k, v in files.items()})
-        plan.writes[MANIFEST] = manifest_text(old.get("design", "") if old else "", ours)
+        digests = {**(ours or {}), **{k: sha256_text(v) for k, v in files.items()}}
+        plan.writes[MANIFEST] = manifest_text(old.get("design", "") if old else "", digests)
         _commit(out_dir, [plan])
     return target
 
-
-def replace_file(path: Path, text: str) -> None:
-    """Replace one file of an output folder, keeping its manifest true (see ``update_files``)."""
-    path = Path(path)
-    update_files(path.parent.parent, path.parent.name, {path.name: text})
 
 
 # -- the transaction ----------------------------------------------------------------------------------------

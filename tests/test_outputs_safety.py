@@ -69,8 +69,8 @@ def test_hand_written_file_of_the_same_name_is_refused(tmp_path, capsys, monkeyp
     before = snapshot(tmp_path)
     code, out, err = run(["build", spec, "--out", "."], capsys)
     assert code == 2 and out == ""
-    assert err.splitlines() == [os.path.join("rtl", "rtl.v") + ": error: exists and was not written by adder_forge; "
-                                "move it away or pass --force to replace it"]
+    assert err.splitlines() == [os.path.join("rtl", "rtl.v") + ": error: exists and was not written by adder_forge "
+                                "(no .adder_forge_manifest.json beside it); move it away or pass --force to replace it"]
     assert snapshot(tmp_path) == before  # nothing written at all, not even the other three files
 
 
