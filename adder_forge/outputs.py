@@ -249,8 +249,7 @@ def recover(out_dir: Path) -> list[Path]:
     except OSError:
         return done
     for stage in entries:
-        if stage.is_dir() and not stage.is_symlink():
-            _rollback(stage)
+        if stage.is_dir() and not stage.is_symlink() and _rollback(stage):
             shutil.rmtree(stage, ignore_errors=True)
             done.append(stage)
     return done
@@ -343,7 +342,9 @@ def _transaction(out_dir: Path, plans: list[_Plan]) -> None:
             _apply(out_dir, stage, op)
         os.unlink(stage / _JOURNAL)  # the commit point
     except BaseException as exc:  # KeyboardInterrupt too: put back what was there
-        _rollback(stage)
+        if not _rollback(stage):  # keep the old files where they are; the next write tries again
+            raise OutputError(f"cannot write {out_dir}: {getattr(exc, 'strerror', None) or exc}; some earlier "
+                              f"outputs are still in {stage}, the next build into {out_dir} puts them back") from None
         shutil.rmtree(stage, ignore_errors=True)
         if isinstance(exc, OSError):
             raise OutputError(f"cannot write {out_dir}: {exc.strerror or exc}; earlier outputs kept") from None
@@ -362,13 +363,17 @@ def _apply(out_dir: Path, stage: Path, op: dict) -> None:
         os.rename(stage / op["staged"], target)
 
 
-def _rollback(stage: Path) -> None:
-    """Undo the renames of an unfinished transaction, newest first. Without a journal nothing was moved."""
+def _rollback(stage: Path) -> bool:
+    """Undo the renames of an unfinished transaction, newest first; False if an old file could not be put
+    back (it is still in the staging folder then). Without a journal nothing was moved."""
     try:
         ops = json.loads((stage / _JOURNAL).read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        return True
     except (OSError, ValueError):
-        return
+        return False
     out_dir = stage.parent
+    restored = True
     for op in reversed(ops):
         target = out_dir / op["target"]
         try:
@@ -387,4 +392,5 @@ def _rollback(stage: Path) -> None:
                   and _sha256_file(target) == op["sha256"]):
                 os.unlink(target)
         except OSError:
-            continue  # put back all that can be put back
+            restored = restored and not (op.get("backup") and os.path.lexists(stage / op["backup"]))
+    return restored

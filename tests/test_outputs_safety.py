@@ -304,3 +304,34 @@ def test_a_failure_while_staging_writes_nothing(tmp_path, monkeypatch):
     with pytest.raises(OutputError, match="No space left"):
         write_folders(tmp_path, [Folder("x", {"a.v": "a2\n"}), Folder("y", {"b.v": "b\n"})])
     assert snapshot(tmp_path) == before and no_staging(tmp_path)
+
+
+def test_an_old_file_that_cannot_be_put_back_is_kept_for_the_next_run(tmp_path, monkeypatch):
+    """Undoing a failed write fails too: the old files stay in the staging folder, never deleted, and the
+    next write into the folder puts them back."""
+    write_folders(tmp_path, [Folder("x", {"a.v": "a\n", "b.v": "b\n"})])
+    before = snapshot(tmp_path)
+    real_rename, real_replace = os.rename, os.replace
+    calls = []
+
+    def rename(src, dst, *a, **kw):
+        calls.append(dst)
+        if len(calls) == 4:  # a.v replaced, b.v moved aside: then the disk fails
+            raise OSError(5, "Input/output error")
+        return real_rename(src, dst, *a, **kw)
+
+    def replace(src, dst, *a, **kw):
+        if str(dst).endswith("b.v"):  # and putting b.v back fails as well
+            raise OSError(5, "Input/output error")
+        return real_replace(src, dst, *a, **kw)
+
+    monkeypatch.setattr(outputs.os, "rename", rename)
+    monkeypatch.setattr(outputs.os, "replace", replace)
+    with pytest.raises(OutputError, match="the next build into"):
+        write_folders(tmp_path, [Folder("x", {"a.v": "a2\n", "b.v": "b2\n"})])
+    monkeypatch.undo()
+    left = [p for p in tmp_path.iterdir() if p.name.startswith(STAGE_PREFIX)]
+    assert len(left) == 1 and (left[0] / "0.old" / "b.v").read_text() == "b\n"
+    write_folders(tmp_path, [Folder("y", {"c.v": "c\n"})])  # any later write
+    assert {k: v for k, v in snapshot(tmp_path).items() if not k.startswith("y/")} == before
+    assert no_staging(tmp_path)
