@@ -159,3 +159,23 @@ def test_sigkill_of_a_large_build_after_a_range_of_delays(tmp_path, capsys):
             build(["build", spec, "--out", out, "--tb-vectors", "20000"])
             spec.write_text(SPEC.format(name="big", width=1025))
     capsys.readouterr()
+
+
+def test_a_second_build_waits_and_does_not_undo_a_running_one(scene, tmp_path):
+    """The staging folder of a live build is not an interrupted one: a second build into the same folder
+    waits for the lock instead of rolling the first one back."""
+    out, specs, other, old = scene
+    first = killed_build(tmp_path, specs, out, "rename", 3, pause=True)
+    assert first.stdout.readline() == "in the write step\n"
+    second = subprocess.Popen([sys.executable, "-m", "adder_forge", "build", str(other), "--out", str(out)],
+                              stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    with pytest.raises(subprocess.TimeoutExpired):
+        second.wait(timeout=3)  # blocked on the lock, well past its usual second
+    assert staging(out)  # the first build's staging folder, untouched
+    first.send_signal(signal.SIGINT)
+    assert first.wait(timeout=60) == 130
+    stdout, err = second.communicate(timeout=120)
+    assert second.returncode == 0, err
+    assert "other: 3-bit ripple" in stdout
+    assert {k: v for k, v in snapshot(out).items() if not k.startswith("other/")} == old
+    assert not staging(out)
