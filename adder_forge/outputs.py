@@ -128,17 +128,19 @@ def _make_dir(out_dir: Path) -> None:
         raise OutputError(f"cannot create {out_dir}: {exc.strerror or exc}") from None
 
 
-def _ours_unchanged(path: Path, ours: dict[str, str] | None, force: bool) -> bool:
-    """May ``path`` be replaced? True when it is ours and unchanged, False when it does not exist or
-    ``force`` lets us replace it anyway; otherwise OutputConflict naming it. ``ours``: the folder's
-    manifest entries, None when the folder has no manifest."""
+def _ours_unchanged(path: Path, ours: dict[str, str] | None, force: bool, text: str) -> bool:
+    """May ``path`` be replaced by ``text``? True when it is ours and unchanged; False when it does not
+    exist, already holds exactly ``text`` (replacing it loses nothing: how a folder written before there
+    were manifests is taken over) or ``force`` lets us replace it anyway; otherwise OutputConflict naming
+    it. ``ours``: the folder's manifest entries, None when the folder has no manifest."""
     if path.is_dir():
         raise OutputConflict(path, "is a folder where adder_forge writes a file; move it away")
     if not os.path.lexists(path):
         return False
-    if ours and path.name in ours and not path.is_symlink() and _sha256_file(path) == ours[path.name]:
+    digest = None if path.is_symlink() else _sha256_file(path)
+    if ours and path.name in ours and digest == ours[path.name]:
         return True
-    if force:
+    if force or (digest is not None and digest == sha256_text(text)):
         return False
     if ours and path.name in ours:
         why = "was changed since adder_forge wrote it"
@@ -157,7 +159,7 @@ def _plan_folder(out_dir: Path, folder: Folder, force: bool) -> _Plan:
     written: dict[str, str] = {}
     for fname, text in folder.files.items():
         path = target / fname
-        if _ours_unchanged(path, ours, force) and folder.carry is not None:
+        if _ours_unchanged(path, ours, force, text) and folder.carry is not None:
             text, note = folder.carry(fname, path.read_text(encoding="utf-8"), text, same)
             if note:
                 plan.notes.append(note)
@@ -205,7 +207,7 @@ def update_files(out_dir: Path, name: str, files: dict[str, str], force: bool = 
         ours = dict(old["files"]) if old else None
         plan = _Plan(target)
         for fname, text in files.items():
-            _ours_unchanged(target / fname, ours, force)
+            _ours_unchanged(target / fname, ours, force, text)
             plan.writes[fname] = text
         digests = {**(ours or {}), **{k: sha256_text(v) for k, v in files.items()}}
         plan.writes[MANIFEST] = manifest_text(old.get("design", "") if old else "", digests)

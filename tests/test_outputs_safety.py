@@ -189,6 +189,7 @@ def test_unreadable_manifest_counts_as_none(tmp_path, capsys):
     out = tmp_path / "out"
     assert run(["build", spec, "--out", out], capsys)[0] == 0
     (out / "add4" / MANIFEST).write_text("{not json")
+    spec_file(tmp_path, "add4", width=5)
     code, _, err = run(["build", spec, "--out", out], capsys)
     assert code == 2 and "was not written by adder_forge" in err and len(err.splitlines()) == 1
 
@@ -335,3 +336,19 @@ def test_an_old_file_that_cannot_be_put_back_is_kept_for_the_next_run(tmp_path, 
     write_folders(tmp_path, [Folder("y", {"c.v": "c\n"})])  # any later write
     assert {k: v for k, v in snapshot(tmp_path).items() if not k.startswith("y/")} == before
     assert no_staging(tmp_path)
+
+
+def test_a_folder_without_manifest_holding_the_same_bytes_is_taken_over(tmp_path, capsys):
+    """As left by a build from before manifests: replacing identical bytes loses nothing."""
+    spec = spec_file(tmp_path, "add4")
+    out = tmp_path / "out"
+    assert run(["build", spec, "--out", out], capsys)[0] == 0
+    (out / "add4" / MANIFEST).unlink()
+    code, _, err = run(["build", spec, "--out", out], capsys)
+    assert code == 0, err
+    assert sorted(json.loads((out / "add4" / MANIFEST).read_text())["files"]) == sorted(
+        f.format(n="add4") for f in BUILT)
+    (out / "add4" / MANIFEST).unlink()
+    spec_file(tmp_path, "add4", width=5)  # now the files differ from what would be written
+    code, _, err = run(["build", spec, "--out", out], capsys)
+    assert code == 2 and "(no .adder_forge_manifest.json beside it)" in err
