@@ -17,7 +17,7 @@ from typing import Callable
 from .artifacts import Design, design
 from .delay import estimates
 from .errors import OutputConflict, SpecError, ToolError
-from .outputs import Folder, fingerprint, read_manifest, sha256_text, update_files, write_folders
+from .outputs import Folder, check_replaceable, fingerprint, read_manifest, sha256_text, update_files, write_folders
 from .registry import suggest
 from .report import to_json
 from .spec import Spec, make_spec
@@ -127,6 +127,7 @@ def _folder(d: Design, out_dir: Path, say: Callable[[str], None], force: bool = 
     path = folder / f"{name}.json"
     old = read_manifest(folder) if folder.is_dir() else None
     if old and old.get("design") == design_key(d) and path.is_file():
+        check_replaceable(path, force)
         return path
     say(f"{name}: building {folder}/ first")
     write_folders(Path(out_dir), [output_folder(d)], force=force)
@@ -141,9 +142,13 @@ def measure_specs(specs: list[Spec], flows: list[str], out_dir: Path,
     require(flows)  # a missing tool fails here, before anything runs
     baselines: dict[tuple[int, bool, bool], dict] = {}
     results = []
+    # Every folder is (re)built and its NAME.json checked before the first synthesis run, so that a file in
+    # the way stops the command before minutes of work, not after.
+    ready = []
     for spec in specs:
         d = design(spec)  # the same files `build` writes, in case the folder has to be (re)built
-        path = _folder(d, out_dir, say, force)
+        ready.append((spec, d, _folder(d, out_dir, say, force)))
+    for spec, d, path in ready:
         say(f"{spec.name}: estimates")
         entry = {"name": spec.name, "width": spec.width, "scheme": spec.scheme, "label": _label(spec),
                  "estimates": estimates(d.net), "synthesis": _run_flows(spec.name, d.verilog, spec, flows, say, spec.name)}

@@ -128,7 +128,7 @@ def _make_dir(out_dir: Path) -> None:
         raise OutputError(f"cannot create {out_dir}: {exc.strerror or exc}") from None
 
 
-def _ours_unchanged(path: Path, ours: dict[str, str] | None, force: bool, text: str) -> bool:
+def _ours_unchanged(path: Path, ours: dict[str, str] | None, force: bool, text: str | None) -> bool:
     """May ``path`` be replaced by ``text``? True when it is ours and unchanged; False when it does not
     exist, already holds exactly ``text`` (replacing it loses nothing: how a folder written before there
     were manifests is taken over) or ``force`` lets us replace it anyway; otherwise OutputConflict naming
@@ -140,13 +140,21 @@ def _ours_unchanged(path: Path, ours: dict[str, str] | None, force: bool, text: 
     digest = None if path.is_symlink() else _sha256_file(path)
     if ours and path.name in ours and digest == ours[path.name]:
         return True
-    if force or (digest is not None and digest == sha256_text(text)):
+    if force or (text is not None and digest is not None and digest == sha256_text(text)):
         return False
     if ours and path.name in ours:
         why = "was changed since adder_forge wrote it"
     else:
         why = "exists and was not written by adder_forge" + ("" if ours is not None else f" (no {MANIFEST} beside it)")
     raise OutputConflict(path, f"{why}; move it away or pass --force to replace it")
+
+
+def check_replaceable(path: Path, force: bool = False) -> None:
+    """OutputConflict unless ``path`` (a file of an output folder) is ours and unchanged, or missing, or
+    ``force``: for a command that will replace it later and should fail before its work, not after."""
+    path = Path(path)
+    old = read_manifest(path.parent) if path.parent.is_dir() else None
+    _ours_unchanged(path, old["files"] if old else None, force, None)
 
 
 def _plan_folder(out_dir: Path, folder: Folder, force: bool) -> _Plan:

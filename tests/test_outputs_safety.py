@@ -352,3 +352,19 @@ def test_a_folder_without_manifest_holding_the_same_bytes_is_taken_over(tmp_path
     spec_file(tmp_path, "add4", width=5)  # now the files differ from what would be written
     code, _, err = run(["build", spec, "--out", out], capsys)
     assert code == 2 and "(no .adder_forge_manifest.json beside it)" in err
+
+
+def test_report_checks_every_json_before_any_synthesis(tmp_path, capsys, monkeypatch):
+    """A hand-edited NAME.json of the second spec stops `report` before the first spec's flows run."""
+    from adder_forge import measure
+
+    specs = [spec_file(tmp_path, "one"), spec_file(tmp_path, "two")]
+    out = tmp_path / "out"
+    assert run(["build", *specs, "--out", out], capsys)[0] == 0
+    js = out / "two" / "two.json"
+    js.write_text(js.read_text() + " ")
+    ran = []
+    monkeypatch.setattr(measure, "_run_flows", lambda *a, **kw: ran.append(a[0]) or {})
+    code, _, err = run(["report", *specs, "--out", out], capsys)
+    assert code == 2 and f"{js}: error: was changed since adder_forge wrote it" in err
+    assert ran == []
