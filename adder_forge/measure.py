@@ -97,14 +97,14 @@ def design_key(d: Design) -> str:
     return fingerprint(__version__, d.spec.to_dict(), sha256_text(d.verilog))
 
 
-def carry_figures(fname: str, old: str, new: str, same: bool) -> tuple[str, str | None]:
+def carry_figures(fname: str, old: Path, new: str, same: bool) -> tuple[str, str | None]:
     """Carry ``measurements`` from the old NAME.json into the new one when the design is the same."""
     if not fname.endswith(".json"):
         return new, None
     try:
-        figures = json.loads(old).get("measurements")
+        figures = json.loads(old.read_text(encoding="utf-8")).get("measurements")
         data = json.loads(new)
-    except (ValueError, AttributeError):
+    except (OSError, ValueError, AttributeError):
         return new, None
     if not figures or not isinstance(data, dict):
         return new, None

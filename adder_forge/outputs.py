@@ -37,9 +37,10 @@ STAGE_PREFIX = ".adder_forge_stage_"
 _JOURNAL = "journal.json"
 _HEAD = "files adder_forge wrote in this folder; it overwrites or removes them only while they are unchanged"
 
-# (file name, old text, new text, same design) -> (text to write, note for the user or None). Called for a
-# file the folder already holds from an earlier build, unchanged since, that the new build writes again.
-Carry = Callable[[str, str, str, bool], "tuple[str, str | None]"]
+# (file name, the old file, new text, same design) -> (text to write, note for the user or None). Called for
+# a file the folder already holds from an earlier build, unchanged since, that the new build writes again;
+# it gets the path, not the text, so that large files it has no use for are not read.
+Carry = Callable[[str, Path, str, bool], "tuple[str, str | None]"]
 
 
 @dataclass(frozen=True)
@@ -62,6 +63,7 @@ class Written:
 class _Plan:
     target: Path
     writes: dict[str, str] = field(default_factory=dict)  # file name -> text; the manifest is one of them
+    digests: dict[str, str] = field(default_factory=dict)  # file name -> SHA-256 of its text, each hashed once
     removes: list[str] = field(default_factory=list)  # our unchanged files that the new build does not make
     notes: list[str] = field(default_factory=list)
 
@@ -168,7 +170,7 @@ def _plan_folder(out_dir: Path, folder: Folder, force: bool) -> _Plan:
     for fname, text in folder.files.items():
         path = target / fname
         if _ours_unchanged(path, ours, force, text) and folder.carry is not None:
-            text, note = folder.carry(fname, path.read_text(encoding="utf-8"), text, same)
+            text, note = folder.carry(fname, path, text, same)
             if note:
                 plan.notes.append(note)
         written[fname] = text
@@ -181,8 +183,15 @@ def _plan_folder(out_dir: Path, folder: Folder, force: bool) -> _Plan:
         elif os.path.lexists(path):
             plan.notes.append(f"left {fname} in place: changed since adder_forge wrote it, no longer built")
     plan.writes = dict(written)
-    plan.writes[MANIFEST] = manifest_text(folder.design, {k: sha256_text(v) for k, v in written.items()})
+    plan.digests = {k: sha256_text(v) for k, v in written.items()}
+    _add_manifest(plan, folder.design, plan.digests)
     return plan
+
+
+def _add_manifest(plan: _Plan, design: str, digests: dict[str, str]) -> None:
+    text = manifest_text(design, digests)
+    plan.writes[MANIFEST] = text
+    plan.digests[MANIFEST] = sha256_text(text)
 
 
 def write_folders(out_dir: Path, folders, force: bool = False) -> list[Written]:
@@ -217,8 +226,8 @@ def update_files(out_dir: Path, name: str, files: dict[str, str], force: bool = 
         for fname, text in files.items():
             _ours_unchanged(target / fname, ours, force, text)
             plan.writes[fname] = text
-        digests = {**(ours or {}), **{k: sha256_text(v) for k, v in files.items()}}
-        plan.writes[MANIFEST] = manifest_text(old.get("design", "") if old else "", digests)
+            plan.digests[fname] = sha256_text(text)
+        _add_manifest(plan, old.get("design", "") if old else "", {**(ours or {}), **plan.digests})
         _commit(out_dir, [plan])
     return target
 
@@ -335,15 +344,14 @@ def _transaction(out_dir: Path, plans: list[_Plan]) -> None:
                 _write(new / fname, text)
             rel = plan.target.name
             if not os.path.lexists(plan.target):
-                ops.append({"op": "folder", "target": rel, "staged": str(k),
-                            "files": {f: sha256_text(t) for f, t in plan.writes.items()}})
+                ops.append({"op": "folder", "target": rel, "staged": str(k), "files": dict(plan.digests)})
                 continue
             old = stage / f"{k}.old"
             old.mkdir()
-            for fname, text in plan.writes.items():
+            for fname in plan.writes:
                 backup = f"{k}.old/{fname}" if os.path.lexists(plan.target / fname) else None
                 ops.append({"op": "file", "target": f"{rel}/{fname}", "staged": f"{k}/{fname}", "backup": backup,
-                            "sha256": sha256_text(text)})
+                            "sha256": plan.digests[fname]})
             for fname in plan.removes:
                 ops.append({"op": "remove", "target": f"{rel}/{fname}", "backup": f"{k}.old/{fname}"})
         _write(stage / (_JOURNAL + ".tmp"), json.dumps(ops, indent=1) + "\n")
