@@ -11,6 +11,7 @@ import signal
 import subprocess
 import sys
 import time
+from pathlib import Path
 
 import pytest
 
@@ -161,6 +162,20 @@ def test_sigkill_of_a_large_build_after_a_range_of_delays(tmp_path, capsys):
     capsys.readouterr()
 
 
+def waits_for_a_lock(proc: subprocess.Popen, seconds: float = 60) -> bool:
+    """True once the kernel lists the process as blocked on a flock (Linux: the '->' lines of /proc/locks);
+    False if it ends first."""
+    end = time.monotonic() + seconds
+    while time.monotonic() < end and proc.poll() is None:
+        for line in Path("/proc/locks").read_text().splitlines():
+            f = line.split()
+            if len(f) > 5 and f[1] == "->" and f[2] == "FLOCK" and f[5] == str(proc.pid):
+                return True
+        time.sleep(0.05)
+    return False
+
+
+@pytest.mark.skipif(not Path("/proc/locks").exists(), reason="needs Linux's /proc/locks to see a waiting lock")
 def test_a_second_build_waits_and_does_not_undo_a_running_one(scene, tmp_path):
     """The staging folder of a live build is not an interrupted one: a second build into the same folder
     waits for the lock instead of rolling the first one back."""
@@ -169,8 +184,8 @@ def test_a_second_build_waits_and_does_not_undo_a_running_one(scene, tmp_path):
     assert first.stdout.readline() == "in the write step\n"
     second = subprocess.Popen([sys.executable, "-m", "adder_forge", "build", str(other), "--out", str(out)],
                               stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
-    with pytest.raises(subprocess.TimeoutExpired):
-        second.wait(timeout=3)  # blocked on the lock, well past its usual second
+    assert waits_for_a_lock(second), "the second build did not wait for the lock"
+    assert second.poll() is None
     assert staging(out)  # the first build's staging folder, untouched
     first.send_signal(signal.SIGINT)
     assert first.wait(timeout=60) == 130
