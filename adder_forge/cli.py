@@ -7,11 +7,12 @@ or failed.
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 from pathlib import Path
 
 from . import __version__
-from .errors import AdderForgeError, OutputError, SpecError, ToolError
+from .errors import AdderForgeError, OutputConflict, OutputError, SpecError, ToolError
 
 EXIT_OK, EXIT_MISMATCH, EXIT_INPUT, EXIT_TOOL = 0, 1, 2, 3
 
@@ -32,6 +33,8 @@ def _parser() -> argparse.ArgumentParser:
     b.add_argument("--tb-vectors", type=int, default=2000, metavar="N",
                    help="random vectors in the testbench when it is not exhaustive (default 2000)")
     b.add_argument("--seed", type=int, default=1, metavar="S")
+    b.add_argument("--force", action="store_true",
+                   help="replace output files that adder_forge did not write or that were edited since")
 
     v = sub.add_parser("verify", help="check that each spec's adder adds: built-in, simulators, formal")
     v.add_argument("specs", nargs="+", metavar="SPEC")
@@ -41,12 +44,14 @@ def _parser() -> argparse.ArgumentParser:
     v.add_argument("--vectors", type=int, default=4096, metavar="N",
                    help="random vectors beside the directed ones where a check is not exhaustive (default 4096)")
     v.add_argument("--seed", type=int, default=1, metavar="S")
-    v.add_argument("--keep", metavar="DIR", help="keep simulator build folders in DIR")
+    v.add_argument("--keep", metavar="DIR", help="keep simulator build folders in DIR (a folder)")
 
     r = sub.add_parser("report", help="estimates and synthesis figures, beside the plain + baseline")
     r.add_argument("specs", nargs="+", metavar="SPEC")
     r.add_argument("--synth", default="", metavar="FLOWS", help="comma list of generic, lut6, ice40")
     r.add_argument("--out", default="out", metavar="DIR")
+    r.add_argument("--force", action="store_true",
+                   help="replace output files that adder_forge did not write or that were edited since")
 
     d = sub.add_parser("dump", help="print the gate-level IR of a spec as text")
     d.add_argument("spec", metavar="SPEC")
@@ -65,6 +70,9 @@ def main(argv: list[str] | None = None) -> int:
     except ToolError as exc:
         print(f"adder-forge: {exc}", file=sys.stderr)
         return EXIT_TOOL
+    except OutputConflict as exc:
+        print(str(exc), file=sys.stderr)
+        return EXIT_INPUT
     except OutputError as exc:
         print(f"adder-forge: {exc}", file=sys.stderr)
         return EXIT_TOOL
@@ -95,21 +103,23 @@ def _designs(specs, tb_random: int = 2000, seed: int = 1):
 
 
 def cmd_build(args) -> int:
+    from .measure import output_folder
     from .outputs import write_folders
 
     if args.tb_vectors < 0:
         raise SpecError("--tb-vectors must be 0 or more", "<command line>", 1, 1, "--tb-vectors")
     designs = _designs(_load_all(args.specs), args.tb_vectors, args.seed)
-    written = write_folders(Path(args.out), {d.spec.name: d.files() for d in designs})
+    written = write_folders(Path(args.out), [output_folder(d) for d in designs], force=args.force)
     from .report import describe
 
-    for d, path in zip(designs, written):
+    for d, w in zip(designs, written):
+        path = w.path
         m = d.metrics
         levels = f"{m['gate_levels']} levels"
         if m.get("sensitizable_levels") is not None:
             levels = f"{m['sensitizable_levels']} levels skip-aware ({m['gate_levels']} structural, false paths)"
         print(f"{d.spec.name}: {describe(d.spec)}: {m['gate_count']} gates, {levels}, fanout {m['max_fanout']}; "
-              f"testbench {d.testbench.count} vectors ({d.plan}) -> {path}/")
+              f"testbench {d.testbench.count} vectors ({d.plan}) -> {path}/" + "".join(f"; {n}" for n in w.notes))
     return EXIT_OK
 
 
@@ -137,11 +147,13 @@ def cmd_verify(args) -> int:
     sims = _sims(args.sim)
     if args.vectors < 0:
         raise SpecError("--vectors must be 0 or more", "<command line>", 1, 1, "--vectors")
+    keep = _keep_folder(args.keep) if args.keep else None
     designs = _designs(_load_all(args.specs), tb_random=args.vectors, seed=args.seed)
-    results = verify(designs, sims, args.formal, args.vectors, args.seed,
-                     Path(args.keep) if args.keep else None,
-                     progress=lambda m: print(f"... {m}", file=sys.stderr, flush=True))
-    width = max(len(o.name) for o in results)
+    found = verify(designs, sims, args.formal, args.vectors, args.seed, keep,
+                   progress=lambda m: print(f"... {m}", file=sys.stderr, flush=True))
+    results, stopped = found.outcomes, found.stopped
+    names = [o.name for o in results] + ([stopped.name] if stopped else [])
+    width = max(len(n) for n in names)
     bad = 0
     for o in results:
         status = "pass" if o.ok else "FAIL"
@@ -150,8 +162,26 @@ def cmd_verify(args) -> int:
             count = f"{o.failed} of {o.vectors} vectors failed"
         print(f"{o.name:<{width}}  {o.checker:<16} {status}  {count + '; ' if count else ''}{o.detail}")
         bad += not o.ok
-    print(f"{len(results) - bad} passed, {bad} failed")
-    return EXIT_MISMATCH if bad else EXIT_OK
+    if stopped is None:
+        print(f"{len(results) - bad} passed, {bad} failed")
+        return EXIT_MISMATCH if bad else EXIT_OK
+    why = stopped.error.message + (f": {stopped.error.hint.strip().splitlines()[-1]}" if stopped.error.hint.strip() else "")
+    print(f"{stopped.name:<{width}}  {stopped.checker:<16} ERROR {why}")
+    print(f"{len(results) - bad} passed, {bad} failed; {stopped.checker} could not run, later checks skipped")
+    print(f"adder-forge: {stopped.error}", file=sys.stderr)
+    return EXIT_MISMATCH if bad else EXIT_TOOL  # a mismatch already found outranks a tool that failed
+
+
+def _keep_folder(value: str) -> Path:
+    keep = Path(value)
+    if os.path.lexists(keep) and not keep.is_dir():
+        raise SpecError(f"--keep {value}: is a file, not a folder", "<command line>", 1, 1, "--keep")
+    try:
+        keep.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise SpecError(f"--keep {value}: cannot make the folder ({exc.strerror or exc})", "<command line>", 1, 1,
+                        "--keep") from None
+    return keep
 
 
 def cmd_report(args) -> int:
@@ -159,7 +189,8 @@ def cmd_report(args) -> int:
 
     flows = [f.strip() for f in args.synth.split(",") if f.strip()]
     specs = _load_all(args.specs)
-    results = measure_specs(specs, flows, Path(args.out), progress=lambda m: print(f"... {m}", file=sys.stderr, flush=True))
+    results = measure_specs(specs, flows, Path(args.out), progress=lambda m: print(f"... {m}", file=sys.stderr, flush=True),
+                            force=args.force)
     print(format_table(results))
     return EXIT_OK
 

@@ -39,5 +39,22 @@ class ToolError(AdderForgeError):
 class OutputError(AdderForgeError):
     """The output folder could not be written; earlier outputs are left as they were."""
 
+    exit_status = 3
+
     def __str__(self) -> str:
         return f"error: {self.args[0]}"
+
+
+class OutputConflict(OutputError):
+    """A file or folder in the way of an output, which the tool did not write or which was edited since:
+    nothing is written (bad input, exit 2). Carries the path it names."""
+
+    exit_status = 2
+
+    def __init__(self, path, message: str):
+        super().__init__(message)
+        self.path = str(path)
+        self.message = message
+
+    def __str__(self) -> str:
+        return f"{self.path}: error: {self.message}"

@@ -16,8 +16,8 @@ from typing import Callable
 
 from .artifacts import Design, design
 from .delay import estimates
-from .errors import SpecError, ToolError
-from .outputs import replace_file, write_folders
+from .errors import OutputConflict, SpecError, ToolError
+from .outputs import Folder, check_replaceable, fingerprint, read_manifest, sha256_text, update_files, write_folders
 from .registry import suggest
 from .report import to_json
 from .spec import Spec, make_spec
@@ -89,38 +89,66 @@ def _run_flows(name: str, verilog: str, spec: Spec, flows: list[str], say: Calla
     return res
 
 
-def _folder(d: Design, out_dir: Path, say: Callable[[str], None]) -> Path:
+def design_key(d: Design) -> str:
+    """What a design's measured figures depend on: the tool version, the spec (its resolved values, not
+    its wording or key order) and the emitted module. Equal keys: figures measured before still hold."""
+    from . import __version__
+
+    return fingerprint(__version__, d.spec.to_dict(), sha256_text(d.verilog))
+
+
+def carry_figures(fname: str, old: Path, new: str, same: bool) -> tuple[str, str | None]:
+    """Carry ``measurements`` from the old NAME.json into the new one when the design is the same."""
+    if not fname.endswith(".json"):
+        return new, None
+    try:
+        figures = json.loads(old.read_text(encoding="utf-8")).get("measurements")
+        data = json.loads(new)
+    except (OSError, ValueError, AttributeError):
+        return new, None
+    if not figures or not isinstance(data, dict):
+        return new, None
+    if not same:
+        return new, "dropped the figures of the last report (the spec or the generator changed)"
+    data["measurements"] = figures
+    return to_json(data), "kept the figures of the last report"
+
+
+def output_folder(d: Design) -> Folder:
+    """The output folder of a design, as `build` and `report` write it."""
+    return Folder(d.spec.name, d.files(), design_key(d), carry_figures)
+
+
+def _folder(d: Design, out_dir: Path, say: Callable[[str], None], force: bool = False) -> Path:
     """DIR/NAME/NAME.json, building the folder (as `build` does) when it is missing or holds the design of
     another spec or of another version of the generator."""
     name = d.spec.name
-    path = Path(out_dir) / name / f"{name}.json"
-    if path.exists():
-        try:
-            old = json.loads(path.read_text(encoding="utf-8"))
-        except (OSError, json.JSONDecodeError):
-            old = None
-        want = d.report()
-        if isinstance(old, dict) and all(old.get(k) == want.get(k) for k in _SAME):
-            return path
-    say(f"{name}: building {Path(out_dir) / name}/ first")
-    write_folders(Path(out_dir), {name: d.files()})
+    folder = Path(out_dir) / name
+    path = folder / f"{name}.json"
+    old = read_manifest(folder) if folder.is_dir() else None
+    if old and old.get("design") == design_key(d) and path.is_file():
+        check_replaceable(path, force)
+        return path
+    say(f"{name}: building {folder}/ first")
+    write_folders(Path(out_dir), [output_folder(d)], force=force)
     return path
 
 
-_SAME = ("version", "name", "width", "scheme", "carry_in", "carry_out", "options", "metrics")
-
-
 def measure_specs(specs: list[Spec], flows: list[str], out_dir: Path,
-                  progress: Callable[[str], None] | None = None) -> list[dict]:
+                  progress: Callable[[str], None] | None = None, force: bool = False) -> list[dict]:
     """Estimates and synthesis figures for every spec and for `+` at its width; written into NAME.json."""
     say = progress or (lambda _m: None)
     flows = check_flows(list(flows))
     require(flows)  # a missing tool fails here, before anything runs
     baselines: dict[tuple[int, bool, bool], dict] = {}
     results = []
+    # Every folder is (re)built and its NAME.json checked before the first synthesis run, so that a file in
+    # the way stops the command before minutes of work, not after.
+    ready = []
     for spec in specs:
         d = design(spec)  # the same files `build` writes, in case the folder has to be (re)built
-        path = _folder(d, out_dir, say)
+        ready.append((spec, d, _folder(d, out_dir, say, force)))
+    for spec, d, path in ready:
         say(f"{spec.name}: estimates")
         entry = {"name": spec.name, "width": spec.width, "scheme": spec.scheme, "label": _label(spec),
                  "estimates": estimates(d.net), "synthesis": _run_flows(spec.name, d.verilog, spec, flows, say, spec.name)}
@@ -137,16 +165,23 @@ def measure_specs(specs: list[Spec], flows: list[str], out_dir: Path,
         plus = baselines[key]
         entry["baseline"] = {"scheme": BASELINE, **plus}
         entry["versus_plus"] = compare(entry["synthesis"], plus["synthesis"])
-        _write(path, entry)
+        _write(path, entry, force)
         entry["json"] = str(path)
         results.append(entry)
     return results
 
 
-def _write(path: Path, entry: dict) -> None:
-    data = json.loads(path.read_text(encoding="utf-8"))
+def _write(path: Path, entry: dict, force: bool = False) -> None:
+    """Add the figures to NAME.json through the folder's manifest, so that the next build knows the file as
+    its own (and carries the figures over while the design is unchanged)."""
+    try:
+        data = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, ValueError):
+        data = None
+    if not isinstance(data, dict):
+        raise OutputConflict(path, "is not the JSON report adder_forge wrote; rebuild it with `build`")
     data["measurements"] = {k: entry[k] for k in ("estimates", "synthesis", "baseline", "versus_plus")}
-    replace_file(path, to_json(data))
+    update_files(path.parent.parent, path.parent.name, {path.name: to_json(data)}, force=force)
 
 
 # -- the printed table ------------------------------------------------------------------------------------------

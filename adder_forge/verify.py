@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import contextlib
 import tempfile
 import time
 from dataclasses import dataclass
@@ -10,6 +11,7 @@ from typing import Callable
 
 from .artifacts import Design
 from .builtin import check as builtin_check
+from .errors import ToolError
 from .vectors import make_plan
 
 BUILTIN_EXHAUSTIVE_LIMIT = 1 << 24
@@ -27,11 +29,51 @@ class Outcome:
     seconds: float = 0.0
 
 
+@dataclass(frozen=True)
+class Stopped:
+    """A check that could not run (a tool missing or failing): no verdict on the adder."""
+
+    name: str  # the spec, or every spec of a shared simulator build, comma-separated
+    checker: str
+    error: ToolError
+
+
+@dataclass(frozen=True)
+class Verdicts:
+    """What `verify` found: every finished check, and the one that stopped it, if any."""
+
+    outcomes: list[Outcome]
+    stopped: Stopped | None = None
+
+
 def verify(designs: list[Design], sims: list[str], formal: bool, random_count: int, seed: int,
-           workdir: Path | None = None, progress: Callable[[str], None] | None = None) -> list[Outcome]:
-    say = progress or (lambda _m: None)
-    plans = {d.spec.name: d.plan for d in designs}
+           workdir: Path | None = None, progress: Callable[[str], None] | None = None) -> Verdicts:
+    """Run the checks in a fixed order; the first tool failure ends the run, keeping what finished."""
     out: list[Outcome] = []
+    try:
+        _run(designs, sims, formal, random_count, seed, workdir, progress or (lambda _m: None), out)
+    except _Stop as stop:
+        return Verdicts(out, stop.stopped)
+    return Verdicts(out)
+
+
+class _Stop(Exception):
+    def __init__(self, stopped: Stopped):
+        super().__init__(stopped.checker)
+        self.stopped = stopped
+
+
+@contextlib.contextmanager
+def _checking(name: str, checker: str):
+    try:
+        yield
+    except ToolError as exc:
+        raise _Stop(Stopped(name, checker, exc)) from None
+
+
+def _run(designs: list[Design], sims: list[str], formal: bool, random_count: int, seed: int,
+         workdir: Path | None, say: Callable[[str], None], out: list[Outcome]) -> None:
+    plans = {d.spec.name: d.plan for d in designs}
     for d in designs:
         t = time.monotonic()
         r = builtin_check(d.net, make_plan(d.spec.width, d.spec.carry_in, BUILTIN_EXHAUSTIVE_LIMIT, random_count, seed))
@@ -45,7 +87,9 @@ def verify(designs: list[Design], sims: list[str], formal: bool, random_count: i
 
                 say(f"{sim}: building and running {len(designs)} testbench(es)")
                 t = time.monotonic()
-                for o in simulate(designs, sim, base / sim):
+                with _checking(", ".join(d.spec.name for d in designs), sim):
+                    done = simulate(designs, sim, base / sim)
+                for o in done:
                     detail = plans[o.name] if o.ok else (
                         f"first failing vector: {o.first}" if o.first else f"no result (exit {o.exit_status}): {o.log}")
                     out.append(Outcome(o.name, sim, o.ok, o.passed + o.failed, o.failed, detail, time.monotonic() - t))
@@ -56,8 +100,9 @@ def verify(designs: list[Design], sims: list[str], formal: bool, random_count: i
                 for d in designs:
                     say(f"cocotb-{sim}: {d.spec.name}")
                     t = time.monotonic()
-                    o = run_cocotb(d, sim, base / f"cocotb-{sim}" / d.spec.name, random_count=min(random_count, 1000),
-                                   seed=seed)
+                    with _checking(d.spec.name, f"cocotb-{sim}"):
+                        o = run_cocotb(d, sim, base / f"cocotb-{sim}" / d.spec.name,
+                                       random_count=min(random_count, 1000), seed=seed)
                     detail = "cocotb test passed" if o.ok else (
                         f"first failing vector: {o.first}" if o.first else f"no result (exit {o.exit_status}): {o.log}")
                     out.append(Outcome(d.spec.name, f"cocotb-{sim}", o.ok, o.passed + o.failed, o.failed, detail,
@@ -67,8 +112,8 @@ def verify(designs: list[Design], sims: list[str], formal: bool, random_count: i
 
             for d in designs:
                 say(f"formal: {d.spec.name}")
-                p = prove(d.net, d.verilog)
+                with _checking(d.spec.name, "formal"):
+                    p = prove(d.net, d.verilog)
                 detail = "proved equal to a + b + cin for every input" if p.ok else (
                     f"counterexample: {p.counterexample.describe(d.spec.width)}" if p.counterexample else p.log)
                 out.append(Outcome(d.spec.name, "formal", p.ok, 0, 0 if p.ok else 1, detail, p.seconds))
-    return out
