@@ -50,7 +50,7 @@ def figures(width: int, scheme: str, opts: dict) -> tuple[dict, dict]:
 
 
 def delay(m: dict) -> int:
-    return m["sensitizable_levels"] if m["sensitizable_levels"] is not None else m["gate_levels"]
+    return m["netlist_levels_skip_aware"] if m["netlist_levels_skip_aware"] is not None else m["netlist_levels"]
 
 
 def tradeoff_table(width: int) -> list[str]:
@@ -64,10 +64,10 @@ def tradeoff_table(width: int) -> list[str]:
         d = ""
         if scheme == "carry-skip":
             d = str(skip_delay([int(x) for x in sizes.strip("[]").split(",")]))
-        structural = m["gate_levels"]
-        mark = " (false)" if m["sensitizable_levels"] is not None else ""
-        out.append(f"| {scheme} | {opts.get('block', '')} | {_short(sizes)} | {m['gate_count']} | {delay(m)} | "
-                   f"{structural}{mark} | {m['max_fanout']} | {d} |")
+        structural = m["netlist_levels"]
+        mark = " (false)" if m["netlist_levels_skip_aware"] is not None else ""
+        out.append(f"| {scheme} | {opts.get('block', '')} | {_short(sizes)} | {m['netlist_gate_equiv']} | {delay(m)} | "
+                   f"{structural}{mark} | {m['netlist_max_fanout']} | {d} |")
     return out + [""]
 
 
@@ -77,8 +77,8 @@ def ling_table() -> list[str]:
     for scheme, opts, n in LING_ROWS:
         o, _ = figures(n, scheme, opts)
         lg, _ = figures(n, scheme, {**opts, "ling": True})
-        out.append(f"| {scheme} | {n} | {opts.get('block', '')} | {o['gate_count']} | {lg['gate_count']} | "
-                   f"{o['gate_levels']} | {lg['gate_levels']} |")
+        out.append(f"| {scheme} | {n} | {opts.get('block', '')} | {o['netlist_gate_equiv']} | {lg['netlist_gate_equiv']} | "
+                   f"{o['netlist_levels']} | {lg['netlist_levels']} |")
     return out + [""]
 
 
@@ -108,7 +108,7 @@ def ling_overhead() -> str:
         if scheme == "block-lookahead" and opts["block"] >= 2:
             o, _ = figures(n, scheme, opts)
             lg, _ = figures(n, scheme, {**opts, "ling": True})
-            ratios.append(lg["gate_count"] / o["gate_count"] - 1)
+            ratios.append(lg["netlist_gate_equiv"] / o["netlist_gate_equiv"] - 1)
     return f"{100 * min(ratios):.0f}-{100 * max(ratios):.0f}%"
 
 

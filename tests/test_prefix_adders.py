@@ -51,7 +51,7 @@ def test_every_network_adds_at_the_issue_widths(network):
             plan = assert_adds(net, w, ci, random_count=32)
             assert plan.exhaustive == (space_bits(w, ci) <= 16)
             m = metrics(net)
-            cells = m["cells_by_role"].get("prefix", {})
+            cells = m["netlist_cells_by_role"].get("prefix", {})
             assert cells.get("AO21", 0) == m["prefix_nodes"] and cells.get("AND2", 0) == m["prefix_black"]
             # one gray cell per carry the adder reads from the network: the columns above 0 that a sum bit
             # or the carry out needs (bit i's carry-in is column i - 1, or column i after a carry-in)
@@ -109,8 +109,8 @@ def ling_table() -> str:
             o = metrics(adder("o", w, carry_in=False, prefix=network))
             g = metrics(adder("l", w, carry_in=False, prefix=network, ling=True))
             lines.append(f"{network:<17} {w:>4} | {o['prefix_nodes']:>5} {o['prefix_levels']:>6} {o['prefix_fanout']:>6} "
-                         f"{o['wire_tracks']:>6} | {o['gate_count']:>5} {o['gate_levels']:>6} | "
-                         f"{'':<6}{g['prefix_nodes']:>5} {g['prefix_levels']:>6} {g['gate_count']:>5} {g['gate_levels']:>6}")
+                         f"{o['wire_tracks']:>6} | {o['netlist_gate_equiv']:>5} {o['netlist_levels']:>6} | "
+                         f"{'':<6}{g['prefix_nodes']:>5} {g['prefix_levels']:>6} {g['netlist_gate_equiv']:>5} {g['netlist_levels']:>6}")
     return "\n".join(lines) + "\n"
 
 
@@ -125,13 +125,13 @@ def test_ling_figures_beside_the_ordinary_form():
             mo, mg = metrics(o), metrics(g)
             assert {k: mg[k] for k in mg if k.startswith("prefix")} == {k: mo[k] for k in mo if k.startswith("prefix")}
             pair = sum(1 for c in g.prefix.cells if c.hi == -1 - c.col and c.lo == -c.col)
-            assert mg["cells_by_role"]["prefix"].get("OR2", 0) == pair > 0
-            assert mg["cells_by_role"]["prefix"]["AO21"] == mo["cells_by_role"]["prefix"]["AO21"] - pair
+            assert mg["netlist_cells_by_role"]["prefix"].get("OR2", 0) == pair > 0
+            assert mg["netlist_cells_by_role"]["prefix"]["AO21"] == mo["netlist_cells_by_role"]["prefix"]["AO21"] - pair
             # t_0 .. t_w-1 (t_w-1 for the carry out; t_0 only where column 1's propagate is read), and
             # c_2 .. c_w recovered by AND2 (c_1 is g_0)
-            ts = mg["cells_by_role"]["pg"]["OR2"]
-            assert ts in (w - 1, w) and mg["cells_by_role"]["carry"]["AND2"] == w - 1
-            assert mg["gate_count"] == mo["gate_count"] - pair + ts + (w - 1)
+            ts = mg["netlist_cells_by_role"]["pg"]["OR2"]
+            assert ts in (w - 1, w) and mg["netlist_cells_by_role"]["carry"]["AND2"] == w - 1
+            assert mg["netlist_gate_equiv"] == mo["netlist_gate_equiv"] - pair + ts + (w - 1)
 
 
 # -- sparse trees -------------------------------------------------------------------------------------------
@@ -161,11 +161,11 @@ def test_sparse_tree_structure():
     assert {3, 7, 11, 15, 19, 23, 27, 31} <= set(done)
     md, ms = metrics(dense), metrics(sparse)
     assert ms["prefix_nodes"] < md["prefix_nodes"] and ms["prefix_levels"] == md["prefix_levels"] == 5
-    assert ms["cells_by_role"]["select"] == {"MUX2": 7 * 3, "XOR2": 7}  # blocks 1..7; block 0 ripples from 0
+    assert ms["netlist_cells_by_role"]["select"] == {"MUX2": 7 * 3, "XOR2": 7}  # blocks 1..7; block 0 ripples from 0
     # block 1 is the dense network itself
     assert dump(adder("d", 16, block=1)) == dump(adder("d", 16)).replace("style=kogge-stone", "style=kogge-stone")
     with_cin = metrics(adder("c", 32, carry_in=True, prefix="kogge-stone", block=4))
-    assert with_cin["cells_by_role"]["select"] == {"MUX2": 8 * 3, "XOR2": 8}  # block 0 is picked by cin
+    assert with_cin["netlist_cells_by_role"]["select"] == {"MUX2": 8 * 3, "XOR2": 8}  # block 0 is picked by cin
 
 
 # -- spec errors ----------------------------------------------------------------------------------------------
