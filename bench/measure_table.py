@@ -47,7 +47,8 @@ def run(widths: list[int]) -> list[dict]:
             res = measure_specs(specs, FLOWS, Path(tmp), progress=lambda m: print("   ", m, file=sys.stderr, flush=True))
             print(f"{w} bits: {time.perf_counter() - t:.1f} s", flush=True)
             for (label, _, _), r in zip(ROWS, res):
-                out.append({"label": label, "width": w, **{k: r[k] for k in ("estimates", "synthesis")}})
+                out.append({"label": label, "width": w,
+                            **{k: r[k] for k in ("netlist_gate_equiv", "estimates", "synthesis")}})
     return out
 
 
