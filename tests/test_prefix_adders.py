@@ -106,7 +106,8 @@ def test_ling_adders_add(network):
 
 def ling_table() -> str:
     """Ordinary and Ling forms side by side (carry_in false, carry_out true)."""
-    lines = [f"{'network':<17} {'bits':>4} | cells levels fanout tracks | gates levels | Ling: cells levels gates levels"]
+    lines = [f"{'network':<17} {'bits':>4} | cells levels fanout tracks | netlist GE, levels | "
+             "Ling: cells levels netlist GE, levels"]
     for network in ("kogge-stone", "brent-kung", "sklansky", "han-carlson", "ladner-fischer", "ladner-fischer-p0"):
         for w in (16, 32, 64):
             o = metrics(adder("o", w, carry_in=False, prefix=network))
