@@ -3,12 +3,14 @@
 Evaluation and Verilog text for each op live with the back ends (evaluate.py, verilog.py); this module is
 the one table that says what an op *is*, so adding an op starts here.
 
-Gate equivalents (``gate_count``) decompose every cell into 2-input gates (common practice):
-NOT 1, AND2/OR2/XOR2/XNOR2 1, AO21 = (x & y) | z is 2, MUX2 = s ? d1 : d0 is 3 (two AND2 and an OR2; the
-inverted select is shared). Levels (``gate_levels``) count that decomposition's depth: AO21 and MUX2 are
-2 levels, the others 1. ``ADD`` is an opaque k-bit ``+`` (the behavioural baseline, and later FPGA
-carry-chain blocks); it is costed as k ripple full adders (5 gate equivalents and 2 levels a bit, plus one
-XOR level), a placeholder that says nothing of what synthesis makes of it: use ``report --synth`` for that.
+Gate equivalents (``netlist_gate_equiv``, metrics.py) decompose every cell into 2-input gates (common
+practice): NOT 1, AND2/OR2/XOR2/XNOR2 1, AO21 = (x & y) | z is 2, MUX2 = s ? d1 : d0 is 3 (two AND2 and an
+OR2; the inverted select is shared). Levels (``netlist_levels``) count that decomposition's depth: AO21 and
+MUX2 are 2 levels, the others 1. ``ADD`` is an opaque k-bit ``+`` (the behavioural baseline, and later FPGA
+carry-chain blocks). Its cost here (k ripple full adders: 5 gate equivalents and 2 levels a bit, plus one
+XOR level) keeps the depth passes defined over every op; no reported figure uses it: metrics.py reports the
+netlist figures of a network with ADD cells as "n/a: left to synthesis", and ``report --synth`` measures
+what the tool makes of it.
 """
 
 from __future__ import annotations

@@ -110,17 +110,18 @@ def cmd_build(args) -> int:
         raise SpecError("--tb-vectors must be 0 or more", "<command line>", 1, 1, "--tb-vectors")
     designs = _designs(_load_all(args.specs), args.tb_vectors, args.seed)
     written = write_folders(Path(args.out), [output_folder(d) for d in designs], force=args.force)
-    from .report import describe
-
     for d, w in zip(designs, written):
-        path = w.path
-        m = d.metrics
-        levels = f"{m['gate_levels']} levels"
-        if m.get("sensitizable_levels") is not None:
-            levels = f"{m['sensitizable_levels']} levels skip-aware ({m['gate_levels']} structural, false paths)"
-        print(f"{d.spec.name}: {describe(d.spec)}: {m['gate_count']} gates, {levels}, fanout {m['max_fanout']}; "
-              f"testbench {d.testbench.count} vectors ({d.plan}) -> {path}/" + "".join(f"; {n}" for n in w.notes))
+        print(_build_line(d, w.path) + "".join(f"; {n}" for n in w.notes))
     return EXIT_OK
+
+
+def _build_line(d, path) -> str:
+    """One line per built spec: what was built (every option that shapes it), its netlist figures as
+    emitted (not synthesis figures, which `report` gives under their own names), the testbench, where."""
+    from .report import describe, netlist_summary, plural
+
+    return (f"{d.spec.name}: {describe(d.spec, d.net.meta)}: {netlist_summary(d.metrics)}; "
+            f"testbench {plural(d.testbench.count, 'vector')} ({d.plan}) -> {path}/")
 
 
 def _sims(values: list[str]) -> list[str]:

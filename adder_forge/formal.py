@@ -1,7 +1,7 @@
 """Formal equivalence of an emitted module with a + b + cin, by Yosys's SAT prover on a miter.
 
 The reference is a separate module built from Verilog's own `+`; the proof says the two agree on every
-input. Plain two-valued logic: `-enable_undef` would change x-propagation and fail falsely (TOOLCHAIN.md).
+input. Plain two-valued logic: `-enable_undef` would change x-propagation and fail falsely (docs/toolchain.md).
 """
 
 from __future__ import annotations

@@ -18,6 +18,7 @@ from .artifacts import Design, design
 from .delay import estimates
 from .errors import OutputConflict, SpecError, ToolError
 from .outputs import Folder, check_replaceable, fingerprint, read_manifest, sha256_text, update_files, write_folders
+from .metrics import LEFT_TO_SYNTHESIS
 from .registry import suggest
 from .report import to_json
 from .spec import Spec, make_spec
@@ -25,12 +26,15 @@ from .synth import FLOWS, require, synthesize
 
 BASELINE = "behavioral"
 # Figures compared with the baseline: (label, flow, path into the flow's dict). Smaller is better for all.
+# Names say what is counted and after which tool: "yosys" is `synth -flatten -noabc` (Yosys's own passes
+# have already merged shared logic and removed dead cells), "abc" is after ABC's delay script, "lut6" and
+# "ice40" are mapped cells. None of them is the netlist as emitted (metrics.py's netlist_* figures).
 COMPARED = (
-    ("structure_cells", "generic", ("structure", "cells")),
-    ("structure_depth", "generic", ("structure", "depth")),
-    ("abc_delay_cells", "generic", ("abc_delay", "cells")),
-    ("abc_delay_depth", "generic", ("abc_delay", "depth")),
-    ("lut6", "lut6", ("luts",)),
+    ("yosys_cells", "generic", ("structure", "cells")),
+    ("yosys_depth", "generic", ("structure", "depth")),
+    ("abc_cells", "generic", ("abc_delay", "cells")),
+    ("abc_depth", "generic", ("abc_delay", "depth")),
+    ("lut6_luts", "lut6", ("luts",)),
     ("lut6_depth", "lut6", ("depth",)),
     ("ice40_lut4", "ice40", ("lut4",)),
     ("ice40_period_ns", "ice40", ("fmax_mhz",)),  # compared as a period, so that smaller is better here too
@@ -151,7 +155,7 @@ def measure_specs(specs: list[Spec], flows: list[str], out_dir: Path,
     for spec, d, path in ready:
         say(f"{spec.name}: estimates")
         entry = {"name": spec.name, "width": spec.width, "scheme": spec.scheme, "label": _label(spec),
-                 "estimates": estimates(d.net), "synthesis": _run_flows(spec.name, d.verilog, spec, flows, say, spec.name)}
+                 "netlist_gate_equiv": d.metrics["netlist_gate_equiv"], "estimates": estimates(d.net), "synthesis": _run_flows(spec.name, d.verilog, spec, flows, say, spec.name)}
         key = (spec.width, spec.carry_in, spec.carry_out)
         if key not in baselines:
             if spec.scheme == BASELINE:
@@ -193,12 +197,12 @@ def _cell(v) -> str:
     return str(v)
 
 
-def _row(name: str, label: str, width: int, est: dict, syn: dict) -> tuple[list[str], list[str]]:
+def _row(name: str, label: str, width: int, ge, est: dict, syn: dict) -> tuple[list[str], list[str]]:
     errors = []
     ug = _cell(est.get("unit_gate_delay"))
     if est.get("unit_gate_delay_skip_aware") is not None:
         ug = f"{est['unit_gate_delay_skip_aware']}*"
-    row = [name, label, str(width), ug, _cell(est.get("unit_gate_area")),
+    row = [name, label, str(width), _cell(ge), ug, _cell(est.get("unit_gate_area")),
            _cell(est.get("le_tau")), _cell(est.get("le_fo4"))]
     for fl in syn:
         r = syn[fl]
@@ -218,9 +222,9 @@ def _row(name: str, label: str, width: int, est: dict, syn: dict) -> tuple[list[
 
 
 HEADERS = {
-    "generic": ["gates", "depth", "abc gates", "abc depth"],
-    "lut6": ["LUT6", "LUT depth"],
-    "ice40": ["LUT4", "carry", "Fmax MHz"],
+    "generic": ["yosys cells", "yosys depth", "abc cells", "abc depth"],
+    "lut6": ["LUT6", "LUT6 depth"],
+    "ice40": ["iCE40 LUT4", "carry", "Fmax MHz"],
 }
 
 
@@ -229,16 +233,17 @@ def format_table(results: list[dict]) -> str:
     if not results:
         return "(no specs)"
     flows = list(results[0]["synthesis"])
-    head = ["name", "scheme", "width", "unit delay", "unit area", "LE tau", "LE FO4"]
+    head = ["name", "scheme", "width", "netlist GE", "unit delay", "unit area", "LE tau", "LE FO4"]
     for fl in flows:
         head += HEADERS[fl]
     rows, errors = [], []
     for r in results:
-        row, err = _row(r["name"], r["label"], r["width"], r["estimates"], r["synthesis"])
+        row, err = _row(r["name"], r["label"], r["width"], r.get("netlist_gate_equiv"), r["estimates"],
+                        r["synthesis"])
         rows.append(row)
         errors += err
         b = r["baseline"]
-        row, err = _row("  +", "behavioral", r["width"], b["estimates"], b["synthesis"])
+        row, err = _row("  +", "behavioral", r["width"], None, b["estimates"], b["synthesis"])
         rows.append(row)
         errors += err
     widths = [max(len(h), *(len(x[k]) for x in rows)) for k, h in enumerate(head)]
@@ -246,17 +251,20 @@ def format_table(results: list[dict]) -> str:
     lines.append("  ".join("-" * w for w in widths))
     for row in rows:
         lines.append("  ".join(c.ljust(w) if k < 2 else c.rjust(w) for k, (c, w) in enumerate(zip(row, widths))))
-    notes = ["unit delay/area: unit-gate model; LE: logical effort, each path sized on its own (estimates, "
-             "not sign-off). '-': not estimated, `+` is left to synthesis."]
+    notes = ["netlist GE: the module as emitted, in 2-input gate equivalents (build's figure); unit delay/area: "
+             "unit-gate model; LE: logical effort, each path sized on its own (estimates, not sign-off). "
+             f"'-': {LEFT_TO_SYNTHESIS}, the `+` baseline has no netlist of ours."]
     if any(r["estimates"].get("unit_gate_delay_skip_aware") is not None for r in results):
         notes.append("*: carry-skip unit delay, skip-aware (its false ripple paths not counted); LE figures count "
                      "them (topological).")
     if "generic" in flows:
-        notes.append("gates/depth: Yosys synth -noabc (as written); abc: Yosys abc -g with a delay script.")
+        notes.append("yosys cells/depth: Yosys synth -flatten -noabc, cells after its own optimisation (shared "
+                     "logic merged, dead logic removed) and ltp -noff depth; abc: then abc -g with a delay script.")
     if "lut6" in flows:
-        notes.append("LUT6: Yosys synth -lut 6.")
+        notes.append("LUT6: Yosys synth -flatten -lut 6, mapped LUTs and LUT levels.")
     if "ice40" in flows:
-        notes.append("LUT4/carry/Fmax: iCE40 UP5K sg48, adder between registers, nextpnr seed 1.")
+        notes.append("iCE40 LUT4/carry/Fmax: mapped cells of the adder alone; Fmax: UP5K sg48, adder between "
+                     "registers, nextpnr seed 1.")
     seen = set()
     for e in errors:
         if e not in seen:

@@ -1,8 +1,9 @@
-"""Structural figures of a prefix network, as Harris 2003 ("A taxonomy of parallel prefix networks",
-Asilomar) measures them, read off the ``PrefixGraph``.
+"""Structural figures of a prefix network, read off the ``PrefixGraph``: levels, fanout and wire tracks as
+Harris 2003 ("A taxonomy of parallel prefix networks", Asilomar) measures them, and the cell count.
 
-- ``prefix_nodes``: cells, black + gray. A gray cell computes the group generate only; a black cell also
-  the group propagate.
+- ``prefix_nodes``: cells, black + gray, counted. A gray cell computes the group generate only; a black
+  cell also the group propagate. (Harris's table has no cell counts; the closed forms the tests check are
+  derived by construction from each network's paper, docs/references.md.)
 - ``prefix_levels``: rows of cells in the drawn network (the level each cell is placed at). A cell may sit
   lower than its inputs force: Brent-Kung's first cell back down the tree reads values ready a row before,
   but moving it up would give its driver two lateral loads on one row. So this is Harris's count, 2L - 1

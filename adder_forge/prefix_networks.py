@@ -38,8 +38,9 @@ The published forms built here, L = ceil(log2 n):
   those top columns with Knowles fanouts [2^f, ..., 4, 2, 1, ..., 1] from which redundant cells are
   dropped (a cell whose only reader is the next cell of its own column, when that reader's driver still
   touches the older value below it), then l Brent-Kung levels filling in the other columns. The corners
-  are Brent-Kung, Sklansky and Kogge-Stone, cell for cell (tested), and the figures of Harris's table are
-  reproduced exactly.
+  are Brent-Kung, Sklansky and Kogge-Stone, cell for cell (tested); the levels, fanout and tracks of
+  Harris's table are reproduced exactly, and the cell counts match the closed forms derived by
+  construction from each network's own paper (docs/references.md).
 
 Adding a network: write ``@network("name", source="Author year, title")`` over a function ``(n) ->
 PrefixGraph`` (or ``(n, value)`` with ``param="key"`` for a parameterised family and a ``check`` that

@@ -4,10 +4,11 @@ Every figure here is read from the tools' own reports (``stat -json``, ``ltp``, 
 never from our emitted Verilog. Three flows, each a function registered in ``FLOWS``:
 
 - ``generic``: technology-independent gates, three ways, because they answer different questions
-  (TOOLCHAIN.md measured why):
-  * ``structure``: ``synth -flatten -noabc``: the circuit as written, lowered to Yosys's internal gates
-    without restructuring; depth is ``ltp -noff`` (cells on the longest path). ``+`` becomes Yosys's own
-    adder here.
+  (docs/toolchain.md measured why):
+  * ``structure``: ``synth -flatten -noabc``: the circuit lowered to Yosys's internal gates without ABC's
+    restructuring, but after Yosys's own opt passes, which merge identical cells and drop dead ones (so
+    these are Yosys cells, not the netlist as emitted; `report` calls them that); depth is ``ltp -noff``
+    (cells on the longest path). ``+`` becomes Yosys's own adder here.
   * ``abc_area``: then ``abc -g GATES`` with ABC's default script, which restructures for area (it turns
     even a Kogge-Stone into something close to a ripple).
   * ``abc_delay``: ``abc -g GATES`` with the delay-oriented script ``DEPTH_SCRIPT`` (balancing and
@@ -17,7 +18,7 @@ never from our emitted Verilog. Three flows, each a function registered in ``FLO
   input and output registers (templates/ice40_wrapper.v.j2) is placed and routed by nextpnr for an
   iCE40 UP5K in the SG48 package, and Fmax is the achieved frequency of the clock in nextpnr's report.
 
-Yosys only sees files below its working folder (TOOLCHAIN.md), so each run gets its own folder and
+Yosys only sees files below its working folder (docs/toolchain.md), so each run gets its own folder and
 relative names.
 """
 
@@ -36,13 +37,13 @@ from .registry import suggest
 from .tools import Command, Result, find, run
 
 GATES = "AND,NAND,OR,NOR,XOR,XNOR,ANDNOT,ORNOT,MUX"
-# Balance, then map for depth (inside `-script +...` commas stand for spaces); measured in TOOLCHAIN.md.
+# Balance, then map for depth (inside `-script +...` commas stand for spaces); measured in docs/toolchain.md.
 DEPTH_SCRIPT = "+strash;&get,-n;&st;&sopb;&dsdb;&b,-d;&sopb;&dsdb;&b,-d;&sopb;&b,-d;&put;dch,-f;map,-D,1"
 ICE40_DEVICE = ("--up5k", "--package", "sg48")
 ICE40_TOP = "adder_forge_ice40_top"
-ICE40_SEED = 1  # seeds 1-3 move Fmax by at most 4% (TOOLCHAIN.md); one fixed seed keeps runs repeatable
+ICE40_SEED = 1  # seeds 1-3 move Fmax by at most 4% (docs/toolchain.md); one fixed seed keeps runs repeatable
 TIMEOUT = 3600.0
-_TRAP = "call stack exhausted"  # abc9 in the WebAssembly Yosys on long ripples (TOOLCHAIN.md)
+_TRAP = "call stack exhausted"  # abc9 in the WebAssembly Yosys on long ripples (docs/toolchain.md)
 
 
 @dataclass(frozen=True)

@@ -1,5 +1,5 @@
 """Verilog-2001 from the IR: one scalar wire per gate (Icarus slows down 10-60x on per-bit assigns to
-vector nets, see TOOLCHAIN.md), outputs gathered in one concatenation, and no time stamps so that the same
+vector nets, see docs/toolchain.md), outputs gathered in one concatenation, and no time stamps so that the same
 spec gives the same bytes."""
 
 from __future__ import annotations

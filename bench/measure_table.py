@@ -5,7 +5,8 @@
     .venv/bin/python bench/measure_table.py --replot     # page and plot again from bench/results/
 
 For Kogge-Stone, Brent-Kung, Sklansky, ripple and behavioral (`+`): unit-gate delay, logical-effort delay,
-Yosys generic gates and depth (as written, and ABC-mapped with the delay script), LUT6 count and depth,
+netlist gate equivalents as emitted, Yosys cells and depth (after Yosys's own optimisation, and ABC-mapped
+with the delay script), LUT6 count and depth,
 iCE40 UP5K LUTs, carry cells and Fmax. Every figure comes from adder_forge.measure.measure_specs, the
 function behind `adder-forge report`, so the docs show what the command prints. Takes a few minutes
 (nextpnr dominates).
@@ -46,7 +47,8 @@ def run(widths: list[int]) -> list[dict]:
             res = measure_specs(specs, FLOWS, Path(tmp), progress=lambda m: print("   ", m, file=sys.stderr, flush=True))
             print(f"{w} bits: {time.perf_counter() - t:.1f} s", flush=True)
             for (label, _, _), r in zip(ROWS, res):
-                out.append({"label": label, "width": w, **{k: r[k] for k in ("estimates", "synthesis")}})
+                out.append({"label": label, "width": w,
+                            **{k: r[k] for k in ("netlist_gate_equiv", "estimates", "synthesis")}})
     return out
 
 
@@ -63,7 +65,7 @@ def row_cells(r: dict) -> list[str]:
 
     le = "-" if e["le_tau"] is None else f"{e['le_tau']:.1f} ({e['le_fo4']:.1f})"
     return [
-        r["label"], str(r["width"]), _f(e["unit_gate_delay"]), le,
+        r["label"], str(r["width"]), _f(r.get("netlist_gate_equiv")), _f(e["unit_gate_delay"]), le,
         pair(g, "structure", ("cells", "depth")), pair(g, "abc_delay", ("cells", "depth")),
         "error" if "error" in l6 else f"{l6['luts']} / {l6['depth']}",
         "error" if "error" in ic else f"{ic['lut4']} + {ic['carry']}",
@@ -71,8 +73,8 @@ def row_cells(r: dict) -> list[str]:
     ]
 
 
-HEAD = ["adder", "n", "unit-gate delay", "LE delay, τ (FO4)", "Yosys gates / depth, as written",
-        "ABC gates / depth, delay script", "LUT6 / depth", "iCE40 LUT4 + carry", "iCE40 Fmax, MHz"]
+HEAD = ["adder", "n", "netlist GE", "unit-gate delay", "LE delay, τ (FO4)", "Yosys cells / depth, no ABC",
+        "ABC cells / depth, delay script", "LUT6 / depth", "iCE40 LUT4 + carry", "iCE40 Fmax, MHz"]
 
 
 def markdown(results: list[dict], widths: list[int]) -> str:
@@ -106,7 +108,7 @@ def plot(results: list[dict], widths: list[int]) -> None:
 
     panels = [
         ("logical-effort delay (FO4)", lambda r: r["estimates"]["le_fo4"]),
-        ("ABC-mapped depth (gates, delay script)", lambda r: r["synthesis"]["generic"].get("abc_delay", {}).get("depth")),
+        ("ABC-mapped depth (cells, delay script)", lambda r: r["synthesis"]["generic"].get("abc_delay", {}).get("depth")),
         ("LUT6 depth", lambda r: r["synthesis"]["lut6"].get("depth")),
         ("iCE40 UP5K Fmax (MHz)", lambda r: r["synthesis"]["ice40"].get("fmax_mhz")),
     ]
@@ -148,14 +150,14 @@ def reading(results: list[dict], widths: list[int]) -> str:
     plus = [_get(results, ROWS[0][0], w, "synthesis", "generic", "structure", "depth") for w in widths]
     bk = [_get(results, "Brent-Kung", w, "synthesis", "generic", "structure", "depth") for w in widths]
     if all(plus) and all(bk):
-        out.append(f"- As written, Yosys's own `+` is {', '.join(map(str, plus))} gates deep at {', '.join(map(str, widths))} "
+        out.append(f"- Before ABC, Yosys's own `+` is {', '.join(map(str, plus))} cells deep at {', '.join(map(str, widths))} "
                    f"bits, close to Brent-Kung ({', '.join(map(str, bk))}): a logarithmic tree, not a ripple.")
     for w in widths[-1:]:
         depths = {label: _get(results, label, w, "synthesis", "generic", "abc_delay", "depth") for label, _, _ in ROWS}
         if all(depths.values()):
             out.append(f"- After ABC's delay script every adder at {w} bits, ripple included, is "
-                       f"{min(depths.values())} to {max(depths.values())} gates deep: ABC restructures the carry "
-                       "logic, so the as-written columns and the estimates are the ones that tell the schemes apart.")
+                       f"{min(depths.values())} to {max(depths.values())} cells deep: ABC restructures the carry "
+                       "logic, so the netlist, no-ABC and estimate columns are the ones that tell the schemes apart.")
     cross = None
     for w in widths:
         f_plus = _get(results, ROWS[0][0], w, "synthesis", "ice40", "fmax_mhz")
@@ -191,6 +193,8 @@ timing.
 {ordering(results)}
 
 ## What the columns are
+- **netlist GE**: the module as emitted (NAME.v), in 2-input gate equivalents (AO21 2, MUX2 3, the rest 1):
+  `build`'s figure, `netlist_gate_equiv` in NAME.json. `-` for `+`: n/a, left to synthesis.
 - **unit-gate delay**: longest path in the unit-gate model (AND/OR 1, XOR 2, AO21 2, MUX2 2, NOT 1; Tyagi
   1993, Zimmermann 1997, from memory; adder_forge/delay.py). `-` for `+`: Verilog's `+` is left to synthesis.
 - **LE delay**: logical effort (Sutherland, Sproull and Harris 1999): the slowest input-to-output path sized
@@ -199,9 +203,10 @@ timing.
   g = 2 and 5/3, XOR2 g = 4 p = 4, ...), each output driving one unit inverter. Each path is sized on its
   own, which is optimistic for networks whose paths share high-fanout nodes (Sklansky); the unit-drive
   figure (every gate the size of a unit inverter) is in NAME.json as `le_unsized_tau`.
-- **Yosys gates / depth, as written**: `synth -flatten -noabc`, cells and `ltp -noff` (cells on the longest
-  path). `+` here is Yosys's own adder architecture.
-- **ABC gates / depth**: then `abc -g AND,NAND,OR,NOR,XOR,XNOR,ANDNOT,ORNOT,MUX` with a delay script
+- **Yosys cells / depth, no ABC**: `synth -flatten -noabc`, cells and `ltp -noff` (cells on the longest
+  path). Not the netlist as emitted: Yosys's own passes have merged identical cells and removed dead ones
+  (a flat lookahead shrinks several-fold). `+` here is Yosys's own adder architecture.
+- **ABC cells / depth**: then `abc -g AND,NAND,OR,NOR,XOR,XNOR,ANDNOT,ORNOT,MUX` with a delay script
   (balancing, then `map -D 1`; adder_forge/synth.py `DEPTH_SCRIPT`). ABC restructures: a ripple comes out
   almost as shallow as a tree, so this column says what synthesis makes of each adder, not how good its
   structure is. The area-script figures (`abc_area`) are in NAME.json.

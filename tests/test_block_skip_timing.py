@@ -115,7 +115,7 @@ def test_exhaustive_transitions_settle_exactly_at_the_estimate(width, block):
     net = elaborate(make_spec("sk", width, "carry-skip", carry_in=width == 3, block=block))
     t = settle_times(net, *all_transitions(width, width == 3))
     m = metrics(net)
-    assert t.max() == m["sensitizable_levels"] < m["gate_levels"]
+    assert t.max() == m["netlist_levels_skip_aware"] < m["netlist_levels"]
 
 
 @pytest.mark.parametrize("width,block", [(8, 2), (12, 3), (16, "auto"), (12, [2, 4, 4, 2]), (6, 1), (33, 5)])
@@ -124,7 +124,7 @@ def test_chain_and_random_transitions_settle_at_the_estimate_never_later(width, 
     net = elaborate(make_spec("sk", width, "carry-skip", carry_in=carry_in, block=block))
     t = settle_times(net, *transitions(width, carry_in, 3000, 7))
     m = metrics(net)
-    assert t.max() == m["sensitizable_levels"] < m["gate_levels"]
+    assert t.max() == m["netlist_levels_skip_aware"] < m["netlist_levels"]
 
 
 def test_bypass_only_ever_selects_an_equal_value():
@@ -147,8 +147,8 @@ def test_bypass_only_ever_selects_an_equal_value():
 @pytest.mark.parametrize("n", [32, 64])
 def test_auto_sizing_no_worse_than_the_best_uniform_block_in_the_ir(n):
     """The automatic sizes against every uniform block size, by the IR's own skip-aware figure."""
-    auto = metrics(elaborate(make_spec("sk", n, "carry-skip")))["sensitizable_levels"]
-    uniform = {k: metrics(elaborate(make_spec("sk", n, "carry-skip", block=k)))["sensitizable_levels"]
+    auto = metrics(elaborate(make_spec("sk", n, "carry-skip")))["netlist_levels_skip_aware"]
+    uniform = {k: metrics(elaborate(make_spec("sk", n, "carry-skip", block=k)))["netlist_levels_skip_aware"]
                for k in range(1, n + 1)}
     assert auto <= min(uniform.values())
     assert (auto, min(uniform.values())) == {32: (24, 30), 64: (33, 42)}[n]
@@ -169,17 +169,17 @@ def test_ir_estimate_follows_the_textbook_model():
 
 def test_false_paths_are_reported():
     m = metrics(elaborate(make_spec("sk", 16, "carry-skip", block=4)))
-    assert m["gate_levels"] > m["sensitizable_levels"]
+    assert m["netlist_levels"] > m["netlist_levels_skip_aware"]
     assert any("false path" in note for note in m["notes"])
     for scheme in ("ripple", "carry-select", "conditional-sum", "block-lookahead"):
         m = metrics(elaborate(make_spec("x", 16, scheme)))
-        assert m["sensitizable_levels"] is None and m["notes"] == []
+        assert m["netlist_levels_skip_aware"] is None and m["notes"] == []
 
 
 def test_no_bypass_no_note():
     """A single block without carry-out has its bypass removed as dead logic: nothing to report."""
     m = metrics(elaborate(make_spec("sk", 8, "carry-skip", block=8, carry_out=False)))
-    assert m["sensitizable_levels"] is None and m["notes"] == []
+    assert m["netlist_levels_skip_aware"] is None and m["notes"] == []
 
 
 def _unit_gate(op, nargs):

@@ -25,7 +25,8 @@ def need_prefix():
 # -- unit-gate model ----------------------------------------------------------------------------------------
 @pytest.mark.parametrize("n", [1, 2, 4, 16, 64])
 def test_ripple_unit_delay_matches_the_textbook_formula(n):
-    # Weste and Harris, "CMOS VLSI Design", 4th ed., ch. 11 (from memory): t_ripple = t_pg + (N-1) t_AO + t_xor.
+    # Weste and Harris, "CMOS VLSI Design", 4th ed., ch. 11 (from memory; docs/references.md, Delay models):
+    # t_ripple = t_pg + (N-1) t_AO + t_xor.
     # Here the propagate is an XOR (t_pg = 2), the carry cell an AO21 (2) and the sum an XOR (2).
     assert unit_gate(net_of(n, "ripple"))["delay"] == 2 + (n - 1) * 2 + 2
 

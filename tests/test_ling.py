@@ -58,8 +58,8 @@ def test_ling_products_have_one_literal_fewer(n):
     """Counted by construction from the expansions: the ordinary carry network has n(n+1)(n+2)/6 AND2
     with a carry-in; Ling's H_0 .. H_n-1 have the products of c_0 .. c_n-1 over t, (n-1)n(n+1)/6 AND2,
     plus one AND2 a bit for c_i+1 = t_i & H_i."""
-    ordinary = metrics(elaborate(make_spec("o", n, "lookahead")))["cells_by_role"]["carry"]["AND2"]
-    ling = metrics(elaborate(make_spec("l", n, "lookahead", ling=True)))["cells_by_role"]["carry"].get("AND2", 0)
+    ordinary = metrics(elaborate(make_spec("o", n, "lookahead")))["netlist_cells_by_role"]["carry"]["AND2"]
+    ling = metrics(elaborate(make_spec("l", n, "lookahead", ling=True)))["netlist_cells_by_role"]["carry"].get("AND2", 0)
     assert ordinary == n * (n + 1) * (n + 2) // 6
     assert ling == (n - 1) * n * (n + 1) // 6 + n
 
@@ -69,11 +69,11 @@ def test_ling_block_lookahead_saves_a_level_with_blocks_of_two_or_more():
     level off; blocks of one bit have no pair to combine, so there Ling only adds the t & H level."""
     for n in (16, 32, 64, 128):
         for k in (2, 3, 4, 8):
-            o = metrics(elaborate(make_spec("o", n, "block-lookahead", block=k)))["gate_levels"]
-            lg = metrics(elaborate(make_spec("l", n, "block-lookahead", block=k, ling=True)))["gate_levels"]
+            o = metrics(elaborate(make_spec("o", n, "block-lookahead", block=k)))["netlist_levels"]
+            lg = metrics(elaborate(make_spec("l", n, "block-lookahead", block=k, ling=True)))["netlist_levels"]
             assert lg == o - 1, (n, k)
-        o = metrics(elaborate(make_spec("o", n, "block-lookahead", block=1)))["gate_levels"]
-        lg = metrics(elaborate(make_spec("l", n, "block-lookahead", block=1, ling=True)))["gate_levels"]
+        o = metrics(elaborate(make_spec("o", n, "block-lookahead", block=1)))["netlist_levels"]
+        lg = metrics(elaborate(make_spec("l", n, "block-lookahead", block=1, ling=True)))["netlist_levels"]
         assert lg == o + 1
 
 

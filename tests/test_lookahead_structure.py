@@ -13,15 +13,15 @@ from adder_forge.spec import make_spec
 @pytest.mark.parametrize("n", [1, 2, 3, 4, 7, 8, 16, 33, 64])
 def test_carry_network_has_n_n1_n2_over_6_and_gates(n):
     net = elaborate(make_spec("cla", n, "lookahead", carry_in=True, carry_out=True))
-    ands = metrics(net)["cells_by_role"]["carry"].get("AND2", 0)
+    ands = metrics(net)["netlist_cells_by_role"]["carry"].get("AND2", 0)
     assert ands == n * (n + 1) * (n + 2) // 6
 
 
 def test_levels_grow_logarithmically_for_lookahead_and_linearly_for_ripple():
     la, rc = {}, {}
     for n in (4, 8, 16, 32, 64):
-        la[n] = metrics(elaborate(make_spec("cla", n, "lookahead")))["gate_levels"]
-        rc[n] = metrics(elaborate(make_spec("rca", n, "ripple")))["gate_levels"]
+        la[n] = metrics(elaborate(make_spec("cla", n, "lookahead")))["netlist_levels"]
+        rc[n] = metrics(elaborate(make_spec("rca", n, "ripple")))["netlist_levels"]
     # ripple: the propagate XOR, then one AO21 (2 levels) a bit up to the carry out
     for n in rc:
         assert rc[n] == 2 * n + 1

@@ -1,5 +1,6 @@
-"""Prefix adders end to end: gates against Python integer addition, the report against Harris 2003's table,
-Ling and sparse-tree variants, spec errors, golden dumps."""
+"""Prefix adders end to end: gates against Python integer addition, the report against the classic
+networks' published figures (docs/references.md), Ling and sparse-tree variants, spec errors, golden
+dumps."""
 
 import pytest
 
@@ -9,7 +10,7 @@ from adder_forge.ir import check_well_formed, dump
 from adder_forge.metrics import metrics
 from adder_forge.passes import break_gate, gate_indices
 from adder_forge.prefix_eval import complete_columns
-from adder_forge.prefix_networks import NETWORKS, levels_of
+from adder_forge.prefix_networks import NETWORKS, build, levels_of
 from adder_forge.registry import elaborate
 from adder_forge.report import report
 from adder_forge.spec import make_spec, parse_spec
@@ -51,7 +52,7 @@ def test_every_network_adds_at_the_issue_widths(network):
             plan = assert_adds(net, w, ci, random_count=32)
             assert plan.exhaustive == (space_bits(w, ci) <= 16)
             m = metrics(net)
-            cells = m["cells_by_role"].get("prefix", {})
+            cells = m["netlist_cells_by_role"].get("prefix", {})
             assert cells.get("AO21", 0) == m["prefix_nodes"] and cells.get("AND2", 0) == m["prefix_black"]
             # one gray cell per carry the adder reads from the network: the columns above 0 that a sum bit
             # or the carry out needs (bit i's carry-in is column i - 1, or column i after a carry-in)
@@ -75,11 +76,13 @@ def test_a_broken_prefix_gate_is_caught():
     assert idx and all(not check(break_gate(net, i), plan).ok for i in idx)
 
 
-# -- the report against Harris 2003 --------------------------------------------------------------------------
+# -- the report against the published figures -------------------------------------------------------------
 @pytest.mark.parametrize("n", [8, 16, 32, 64, 128])
-def test_report_reproduces_harris_2003_table(n):
-    """carry_in false, carry_out true, L = log2 n (Harris 2003, "A taxonomy of parallel prefix networks",
-    Asilomar): cells, levels, fanout, tracks."""
+def test_report_reproduces_the_classic_networks_table(n):
+    """carry_in false, carry_out true, L = log2 n; docs/references.md, "Classic networks". Levels, fanout,
+    tracks: Harris 2003, "A taxonomy of parallel prefix networks", Asilomar. Cells: derived by construction
+    from Kogge and Stone 1973, Brent and Kung 1982, Sklansky 1960, Han and Carlson 1987 (Harris's table
+    does not give them)."""
     L = levels_of(n)
     table = {"brent-kung": (2 * n - 2 - L, 2 * L - 1, 2, 1), "sklansky": (n // 2 * L, L, n // 2 + 1, 1),
              "kogge-stone": (n * L - n + 1, L, 2, n // 2), "han-carlson": (n // 2 * L, L + 1, 2, n // 4)}
@@ -89,7 +92,7 @@ def test_report_reproduces_harris_2003_table(n):
         assert (m["prefix_nodes"], m["prefix_levels"], m["prefix_fanout"], m["wire_tracks"]) == want, network
         assert m["prefix_gray"] == n - 1 and m["prefix_black"] == want[0] - (n - 1)
     kn = metrics(adder("k", n, carry_in=False, prefix="knowles", fanouts=[2] + [1] * (L - 1)))
-    assert kn["prefix_nodes"] == n * L - n + 1  # Knowles 2001: the Kogge-Stone cell count
+    assert kn["prefix_nodes"] == n * L - n + 1  # Knowles 2001: the Kogge-Stone cell count (by construction)
 
 
 # -- Ling ---------------------------------------------------------------------------------------------------
@@ -103,14 +106,15 @@ def test_ling_adders_add(network):
 
 def ling_table() -> str:
     """Ordinary and Ling forms side by side (carry_in false, carry_out true)."""
-    lines = [f"{'network':<17} {'bits':>4} | cells levels fanout tracks | gates levels | Ling: cells levels gates levels"]
+    lines = [f"{'network':<17} {'bits':>4} | cells levels fanout tracks | netlist GE, levels | "
+             "Ling: cells levels netlist GE, levels"]
     for network in ("kogge-stone", "brent-kung", "sklansky", "han-carlson", "ladner-fischer", "ladner-fischer-p0"):
         for w in (16, 32, 64):
             o = metrics(adder("o", w, carry_in=False, prefix=network))
             g = metrics(adder("l", w, carry_in=False, prefix=network, ling=True))
             lines.append(f"{network:<17} {w:>4} | {o['prefix_nodes']:>5} {o['prefix_levels']:>6} {o['prefix_fanout']:>6} "
-                         f"{o['wire_tracks']:>6} | {o['gate_count']:>5} {o['gate_levels']:>6} | "
-                         f"{'':<6}{g['prefix_nodes']:>5} {g['prefix_levels']:>6} {g['gate_count']:>5} {g['gate_levels']:>6}")
+                         f"{o['wire_tracks']:>6} | {o['netlist_gate_equiv']:>5} {o['netlist_levels']:>6} | "
+                         f"{'':<6}{g['prefix_nodes']:>5} {g['prefix_levels']:>6} {g['netlist_gate_equiv']:>5} {g['netlist_levels']:>6}")
     return "\n".join(lines) + "\n"
 
 
@@ -125,13 +129,13 @@ def test_ling_figures_beside_the_ordinary_form():
             mo, mg = metrics(o), metrics(g)
             assert {k: mg[k] for k in mg if k.startswith("prefix")} == {k: mo[k] for k in mo if k.startswith("prefix")}
             pair = sum(1 for c in g.prefix.cells if c.hi == -1 - c.col and c.lo == -c.col)
-            assert mg["cells_by_role"]["prefix"].get("OR2", 0) == pair > 0
-            assert mg["cells_by_role"]["prefix"]["AO21"] == mo["cells_by_role"]["prefix"]["AO21"] - pair
+            assert mg["netlist_cells_by_role"]["prefix"].get("OR2", 0) == pair > 0
+            assert mg["netlist_cells_by_role"]["prefix"]["AO21"] == mo["netlist_cells_by_role"]["prefix"]["AO21"] - pair
             # t_0 .. t_w-1 (t_w-1 for the carry out; t_0 only where column 1's propagate is read), and
             # c_2 .. c_w recovered by AND2 (c_1 is g_0)
-            ts = mg["cells_by_role"]["pg"]["OR2"]
-            assert ts in (w - 1, w) and mg["cells_by_role"]["carry"]["AND2"] == w - 1
-            assert mg["gate_count"] == mo["gate_count"] - pair + ts + (w - 1)
+            ts = mg["netlist_cells_by_role"]["pg"]["OR2"]
+            assert ts in (w - 1, w) and mg["netlist_cells_by_role"]["carry"]["AND2"] == w - 1
+            assert mg["netlist_gate_equiv"] == mo["netlist_gate_equiv"] - pair + ts + (w - 1)
 
 
 # -- sparse trees -------------------------------------------------------------------------------------------
@@ -161,11 +165,15 @@ def test_sparse_tree_structure():
     assert {3, 7, 11, 15, 19, 23, 27, 31} <= set(done)
     md, ms = metrics(dense), metrics(sparse)
     assert ms["prefix_nodes"] < md["prefix_nodes"] and ms["prefix_levels"] == md["prefix_levels"] == 5
-    assert ms["cells_by_role"]["select"] == {"MUX2": 7 * 3, "XOR2": 7}  # blocks 1..7; block 0 ripples from 0
-    # block 1 is the dense network itself
-    assert dump(adder("d", 16, block=1)) == dump(adder("d", 16)).replace("style=kogge-stone", "style=kogge-stone")
+    assert ms["netlist_cells_by_role"]["select"] == {"MUX2": 7 * 3, "XOR2": 7}  # blocks 1..7; block 0 ripples from 0
+    # blocks of one bit, given as a list so that the sparse-tree path runs, are the dense network itself:
+    # the same gates line for line (only the spec's block line differs) and the published construction
+    dense16, ones16 = dump(adder("d", 16)), dump(adder("d", 16, block=[1] * 16))
+    assert ones16 == dense16.replace("meta block = 1\n", "meta block = [" + ", ".join(["1"] * 16) + "]\n")
+    assert ones16 != dense16 and "MUX2" not in ones16
+    assert adder("d", 16, block=[1] * 16).prefix.cells == build("kogge-stone", 17).cells
     with_cin = metrics(adder("c", 32, carry_in=True, prefix="kogge-stone", block=4))
-    assert with_cin["cells_by_role"]["select"] == {"MUX2": 8 * 3, "XOR2": 8}  # block 0 is picked by cin
+    assert with_cin["netlist_cells_by_role"]["select"] == {"MUX2": 8 * 3, "XOR2": 8}  # block 0 is picked by cin
 
 
 # -- spec errors ----------------------------------------------------------------------------------------------

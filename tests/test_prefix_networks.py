@@ -1,8 +1,10 @@
 """Prefix networks on the prefix level: structure against published figures and bounds, and every network
 at every width 1..70 evaluated against Python integer addition.
 
-Published sources named beside each check: Harris 2003, "A taxonomy of parallel prefix networks"
-(Asilomar) for the table; Snir 1986 (restated in Zhu, Cheng and Graham, ACM TODAES 2006) for the bound;
+Published sources named beside each check (values and sources in docs/references.md): Harris 2003, "A
+taxonomy of parallel prefix networks" (Asilomar) for levels, fanout and tracks; the construction papers
+(Kogge and Stone 1973, Brent and Kung 1982, Sklansky 1960, Han and Carlson 1987, Ladner and Fischer 1980)
+for the cell counts, derived by construction; Snir 1986 (restated in Zhu, Cheng and Graham, ACM TODAES 2006) for the bound;
 Sergeev 2013 (ECCC TR13-041) for the exact minimum size at depth log2 n; Knuth, TAOCP 4 fascicle 0,
 ex. 7.1.2-36 (via OEIS A158618) for the size of Ladner and Fischer's P_0; Knowles 2001, "A family of
 adders", for the Knowles family.
@@ -54,9 +56,11 @@ def every_network(n):
         yield name, value, build(name, n, value)
 
 
-# -- Harris 2003's table ------------------------------------------------------------------------------------
-# n prefix inputs (carry_in false), L = log2 n: cells, levels, fanout, tracks (Harris 2003, Table/Fig. of the
-# taxonomy; restated in /work/shared/REFERENCES.md).
+# -- the classic networks: Harris 2003's table, cell counts by construction -------------------------------
+# n prefix inputs (carry_in false), L = log2 n: (cells, levels, fanout, tracks). Levels, fanout and tracks:
+# Harris 2003, "A taxonomy of parallel prefix networks". Cells (not in Harris's table): derived by
+# construction from each network's own paper: Brent and Kung 1982, Sklansky 1960, Kogge and Stone 1973,
+# Han and Carlson 1987. Both in docs/references.md, "Classic networks".
 TABLE = {
     "brent-kung": lambda n, L: (2 * n - 2 - L, 2 * L - 1, 2, 1),
     "sklansky": lambda n, L: (n // 2 * L, L, n // 2 + 1, 1),
@@ -72,7 +76,7 @@ def figures(graph):
 
 @pytest.mark.parametrize("n", [8, 16, 32, 64, 128])
 @pytest.mark.parametrize("name", sorted(TABLE))
-def test_harris_2003_table(name, n):
+def test_classic_networks_table(name, n):
     L = levels_of(n)
     assert figures(build(name, n)) == TABLE[name](n, L)
 
@@ -85,8 +89,9 @@ def test_brent_kung_rows_and_chain(n):
     assert prefix_figures(g)["prefix_levels"] == 2 * levels_of(n) - 1 and depth(g) == 2 * levels_of(n) - 2
 
 
-def test_harris_2003_cell_counts_at_16_and_64():
-    # the issue's literal check values (Harris 2003 closed forms evaluated)
+def test_classic_cell_counts_at_16_and_64():
+    # the closed forms evaluated (docs/references.md, "Classic networks"; derived by construction from
+    # Brent and Kung 1982, Sklansky 1960, Kogge and Stone 1973, Han and Carlson 1987)
     assert [len(build(x, 16).cells) for x in ("brent-kung", "sklansky", "kogge-stone", "han-carlson")] == [26, 32, 49, 32]
     assert [len(build(x, 64).cells) for x in ("brent-kung", "sklansky", "kogge-stone", "han-carlson")] == [120, 192, 321, 192]
 
@@ -111,10 +116,10 @@ def test_taxonomy_named_points(n):
         assert build("harris", n, point).cells == build(name, n).cells, name
     kn = build("knowles", n, tuple([2] + [1] * (L - 1)))
     assert build("harris", n, (0, 1, L - 2)).cells == kn.cells
-    # Knowles [2,1,...,1]: fanout 3, n/4 tracks, and the Kogge-Stone cell count (REFERENCES.md's row)
+    # Knowles [2,1,...,1]: fanout 3, n/4 tracks, and the Kogge-Stone cell count (docs/references.md, Knowles row; derived by construction)
     assert figures(kn) == (n * L - n + 1, L, 3, n // 4)
     # Ladner-Fischer in Harris's l = 1 form: (n/4) L + 3n/4 - 1 cells (closed form derived by construction,
-    # REFERENCES.md), L + 1 levels, fanout n/4 + 1, one track
+    # docs/references.md), L + 1 levels, fanout n/4 + 1, one track
     assert figures(build("ladner-fischer", n)) == (n // 4 * L + 3 * n // 4 - 1, L + 1, n // 4 + 1, 1)
 
 
@@ -227,7 +232,7 @@ def read_by(g):
 def test_gray_cells_and_no_dead_cells(n):
     for name, value, g in every_network(n):
         gray = [c for c in g.cells if c.gray]
-        assert len(gray) == n - 1, (name, value)  # one per column above 0 (REFERENCES.md convention)
+        assert len(gray) == n - 1, (name, value)  # one per column above 0 (docs/references.md, counting convention)
         assert all((c.low == 0) == c.gray for c in g.cells)
         # a gray cell's propagate is never read: it is nobody's upper input, nor a black cell's lower one
         for c in g.cells:

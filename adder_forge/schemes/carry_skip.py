@@ -3,8 +3,8 @@ straight to its carry out when every bit of the block propagates.
 
 When the block propagate P = p_lo & ... & p_hi-1 is 1 the rippled carry out equals the carry-in anyway, so
 the multiplexer changes no value, only timing: the structural path carry-in -> ripple -> carry out can
-never be sensitized. Those are the adder's false paths; ``gate_levels`` counts them, the skip-aware
-``sensitizable_levels`` (skip_timing.py) does not. Each bypass multiplexer has role ``skip`` and args
+never be sensitized. Those are the adder's false paths; ``netlist_levels`` counts them, the skip-aware
+``netlist_levels_skip_aware`` (skip_timing.py) does not. Each bypass multiplexer has role ``skip`` and args
 (P, rippled carry out, block carry-in), which is what the timing pass reads.
 """
 
@@ -16,8 +16,8 @@ from .blockparts import begin, ripple
 from .common import balanced, finish, sum_bits
 
 FALSE_PATHS = ("false paths: in every bypassed block, carry-in -> ripple -> carry out can never be sensitized "
-               "(the bypass passes the carry-in whenever the ripple would); gate_levels counts those paths, "
-               "sensitizable_levels is the skip-aware delay")
+               "(the bypass passes the carry-in whenever the ripple would); netlist_levels counts those paths, "
+               "netlist_levels_skip_aware is the skip-aware delay")
 
 
 BLOCK = block_option(AUTO, "bits per skip block: k, a list from bit 0 up, or auto (variable sizes minimising "
@@ -26,7 +26,7 @@ BLOCK = block_option(AUTO, "bits per skip block: k, a list from bit 0 up, or aut
 
 @scheme("carry-skip", options=(BLOCK,), check=check_block,
         doc="carry-skip: ripple blocks with a bypass multiplexer on the block propagate; false paths, see "
-            "sensitizable_levels")
+            "netlist_levels_skip_aware")
 def carry_skip(spec):
     f, blocks, g, p = begin(spec, skip_auto)
     b = f.b
