@@ -19,7 +19,7 @@ is used costs the AND2 back.
 
 from __future__ import annotations
 
-from ..blocksizes import block_option, check_block, resolve, spans, text
+from ..blocksizes import block_option, check_block, resolve, spans, text, wide_note
 from ..prefix_networks import NETWORKS, NetworkError, build, final_refs, param_levels, prune
 from ..registry import Option, choice_option, scheme, type_name
 from .blockparts import conditional, select
@@ -101,6 +101,7 @@ def prefix_adder(spec):
     graph, sizes = network_for(spec)
     if any(s > 1 for s in sizes):
         b.meta.append(("block_sizes", text(sizes)))
+    b.meta += [("note", n) for n in [wide_note(spec.opt("block"), spec.width)] if n]
     g, p = generate_propagate(f)
     gen = [f.cin] * ci + g
     t = None
