@@ -158,7 +158,8 @@ def _sims(values: list[str]) -> list[str]:
             elif name == "cocotb":
                 raise UsageError("--sim cocotb needs a simulator: cocotb-icarus or cocotb-verilator", "verify", "--sim")
             else:
-                raise UsageError(f"unknown simulator '{shown(given)}'" + suggest(name, valid + ["all"]), "verify", "--sim")
+                raise UsageError(f"unknown simulator '{shown(given)}'" + suggest(name, valid + ["all"], SIM_ALIASES),
+                                 "verify", "--sim")
     return list(dict.fromkeys(out))
 
 

@@ -25,11 +25,12 @@ def suggest(word: str, choices, aliases: dict[str, str] | None = None) -> str:
     """
     choices = sorted(choices)
     word = str(word)
-    if aliases and word.lower() in aliases:
+    aliases = dict(aliases or {})
+    aliases.update({c.lower(): c for c in choices})
+    if word.lower() in aliases:
         return f" (did you mean '{aliases[word.lower()]}'?)"
-    if word.lower() in choices:
-        return f" (did you mean '{word.lower()}'?)"
-    close = difflib.get_close_matches(word, choices, n=1, cutoff=0.6) if len(word) <= 64 else []
+    close = difflib.get_close_matches(word.lower(), sorted(aliases), n=1, cutoff=0.6) if len(word) <= 64 else []
+    close = [aliases[c] for c in close]
     if close:
         return f" (did you mean '{close[0]}'?)"
     return " (valid: " + ", ".join(choices) + ")"
