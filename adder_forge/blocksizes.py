@@ -53,7 +53,8 @@ def check_block(spec) -> None:
     """Cross-key rule: a list of sizes must cover the width exactly (spec-time, so the error has a place)."""
     v = spec.opt("block")
     if isinstance(v, tuple) and sum(v) != spec.width:
-        raise spec.error("block", f"'block' sizes {list(v)} add up to {sum(v)} bits but 'width' is {spec.width}")
+        shown_sizes = text(v) if len(v) <= 16 else f"({len(v)} sizes)"
+        raise spec.error("block", f"'block' sizes {shown_sizes} add up to {sum(v)} bits but 'width' is {spec.width}")
 
 
 def resolve(value, width: int, auto_rule: Callable[[int], tuple[int, ...]] | None = None) -> tuple[int, ...]:

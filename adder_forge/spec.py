@@ -86,6 +86,10 @@ def load_spec(path: str | Path) -> Spec:
     path = Path(path)
     src = str(path)
     try:
+        if path.is_dir():
+            raise SpecError("is a folder, not a spec file", src, 1, 1)
+        if path.exists() and not path.is_file():  # a FIFO or a device would block a read, or never end
+            raise SpecError("is not a regular file", src, 1, 1)
         if path.is_file() and path.stat().st_size > MAX_SPEC_BYTES:
             raise SpecError(f"the spec is larger than {MAX_SPEC_BYTES >> 20} MiB: is this the right file?", src, 1, 1)
         text = path.read_text(encoding="utf-8")
