@@ -259,3 +259,24 @@ def test_block_wider_than_width_is_noted(tmp_path, capsys, scheme):
     spec.write_text(f"name: w3\nwidth: 8\nscheme: {scheme}\nblock: 8\n")  # as wide as the adder: no note
     assert run(["build", str(spec), "--out", str(tmp_path / "o2")], capsys)[0] == 0
     assert "// note: block" not in (tmp_path / "o2" / "w3" / "w3.v").read_text()
+
+
+def test_longest_name_still_gets_its_baseline(tmp_path, capsys):
+    # The report's `+` baseline is NAME_plus: a name at the limit must not fail there.
+    from adder_forge.spec import MAX_NAME, make_spec
+
+    assert make_spec("a" * MAX_NAME + "_plus", 8, "behavioral").name.endswith("_plus")
+    spec = tmp_path / "long.yaml"
+    spec.write_text(GOOD.replace("add8", "a" * MAX_NAME))
+    code, out, err = run(["report", str(spec), "--out", str(tmp_path / "o")], capsys)
+    assert code == 0, err
+
+
+def test_keep_that_is_a_file_is_bad_input(tmp_path, capsys):
+    spec = tmp_path / "s.yaml"
+    spec.write_text(GOOD)
+    afile = tmp_path / "keep.txt"
+    afile.write_text("mine\n")
+    code, _, err = run(["verify", str(spec), "--keep", str(afile)], capsys)  # before: a traceback, exit 1
+    assert code == 2 and err.strip() == f"adder-forge verify: error: --keep {afile} is a file, not a folder"
+    assert afile.read_text() == "mine\n"
