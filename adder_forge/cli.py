@@ -59,7 +59,7 @@ def main(argv: list[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     try:
         for option in ("out", "keep"):
-            if getattr(args, option, None):
+            if getattr(args, option, None) is not None:
                 check_folder(getattr(args, option), args.command, f"--{option}")
         return _COMMANDS[args.command](args)
     except SpecError as exc:
@@ -85,6 +85,8 @@ def main(argv: list[str] | None = None) -> int:
 def check_folder(path: str, command: str, option: str) -> None:
     """An output folder option must name a folder, or a place where one can be made: checked before any work,
     so that a file in the way is bad input (exit 2), not a tool failure after minutes of work."""
+    if not path.strip():
+        raise UsageError(f"{option} needs a folder name", command, option)
     p = Path(path)
     while True:
         if p.exists() and not p.is_dir():

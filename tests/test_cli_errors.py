@@ -222,6 +222,8 @@ def test_out_that_is_a_file_is_bad_input(tmp_path, capsys, command):
     assert code == 2 and err.strip() == f"adder-forge {command}: error: --out {afile} is a file, not a folder"
     code, _, err = run([command, str(spec), "--out", str(afile / "sub")], capsys)
     assert code == 2 and f"cannot be made: {afile} is a file" in err
+    code, _, err = run([command, str(spec), "--out", ""], capsys)  # before: wrote into the current folder
+    assert code == 2 and err.strip() == f"adder-forge {command}: error: --out needs a folder name"
     assert afile.read_text() == "mine\n"
 
 

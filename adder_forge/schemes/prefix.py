@@ -27,6 +27,9 @@ from .common import finish, generate_propagate, start
 from .ling import LING, carry, transmits
 
 
+_ENTRY_MAX = 1 << 16  # more than any level count or fanout of a 16384-bit network; bounds the messages too
+
+
 def _int_list(key: str, what: str, lo: int, length: int | None = None):
     def parse(v, fail):
         if not isinstance(v, list) or (length is not None and len(v) != length):
@@ -34,6 +37,8 @@ def _int_list(key: str, what: str, lo: int, length: int | None = None):
         for x in v:
             if isinstance(x, bool) or not isinstance(x, int) or x < lo:
                 fail(f"'{key}' must be {what}, got an entry {type_name(x)}")
+            if x > _ENTRY_MAX:
+                fail(f"'{key}' entries must be at most {_ENTRY_MAX}, got {type_name(x)}")
         return tuple(v)
 
     return parse
