@@ -19,6 +19,9 @@ _IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
 # them, so that no module or file the tool writes can clash with a user's adder (README, "Names").
 RESERVED_PREFIX = "adder_forge_"  # the proof's miter, the simulation batch top, the FPGA wrapper top
 RESERVED_SUFFIX = "_tb"  # NAME_tb is the testbench module (and file) of NAME
+# The iCE40 cell library that Yosys's synth_ice40 reads beside the design (SB_LUT4, SB_CARRY, ...,
+# ICESTORM_LC): a module of that name is a re-definition there. Case-sensitive, as Verilog is.
+CELL_LIBRARY_PREFIXES = ("SB_", "ICESTORM_")
 DERIVED_SUFFIXES = ("_tb", "_plus", "__reference")  # testbench, report's + baseline, the proof's reference
 MAX_NAME = 128  # file names are the name plus a suffix; most file systems stop at 255 bytes
 MAX_SPEC_BYTES = 16 << 20  # a spec is a few lines; this bounds what a mistaken path can make us read
@@ -266,6 +269,10 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
         fail_at("name", f"'name' is {len(name)} characters long; at most {max_name} (file names are built from it)")
     if name.lower().startswith(RESERVED_PREFIX):
         fail_at("name", f"'name' '{name}': names starting with '{RESERVED_PREFIX}' are reserved for the tool's own modules")
+    for lib in CELL_LIBRARY_PREFIXES:
+        if name.startswith(lib):
+            fail_at("name", f"'name' '{name}': names starting with '{lib}' are the iCE40 cell library's "
+                            "(the FPGA flow reads it beside the design)")
     if name.lower().endswith(RESERVED_SUFFIX):
         fail_at("name", f"'name' '{name}': names ending in '{RESERVED_SUFFIX}' are reserved "
                         f"('{name}' is the testbench module of '{name[:-len(RESERVED_SUFFIX)]}')")

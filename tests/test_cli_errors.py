@@ -109,15 +109,19 @@ def test_unknown_simulator_and_bad_option(tmp_path, capsys):
 
 # -- names that clash with the tool's own (issue 8, defect 6) ------------------------------------------------------
 # Before the fix each of these built, then failed inside Yosys or a simulator as a tool error (exit 3):
-# "There is already a module \adder_forge_miter", "Module x_tb was already declared".
-@pytest.mark.parametrize("name", ["adder_forge_miter", "adder_forge_batch", "adder_forge_ice40_top",
-                                  "ADDER_FORGE_mine", "x_tb", "x_TB"])
-def test_reserved_names_rejected_alone(tmp_path, capsys, name):
+# "There is already a module \adder_forge_miter", "Module x_tb was already declared", and in
+# `report --synth ice40`: "cells_sim.v:228: ERROR: Re-definition of module `\SB_CARRY'".
+@pytest.mark.parametrize("name,why", [
+    ("adder_forge_miter", "reserved"), ("adder_forge_batch", "reserved"), ("adder_forge_ice40_top", "reserved"),
+    ("ADDER_FORGE_mine", "reserved"), ("x_tb", "reserved"), ("x_TB", "reserved"),
+    ("SB_CARRY", "iCE40 cell library"), ("ICESTORM_LC", "iCE40 cell library"),
+])
+def test_reserved_names_rejected_alone(tmp_path, capsys, name, why):
     spec = tmp_path / "r.yaml"
     spec.write_text(GOOD.replace("add8", name))
     code, _, err = run(["build", str(spec), "--out", str(tmp_path / "o")], capsys)
     assert code == 2, err
-    assert err.startswith(f"{spec}:1:7: error: 'name' '{name}'") and "reserved" in err
+    assert err.startswith(f"{spec}:1:7: error: 'name' '{name}'") and why in err
     assert len(err.strip().splitlines()) == 1 and not (tmp_path / "o").exists()
 
 
@@ -138,7 +142,7 @@ def test_names_clashing_across_specs(tmp_path, capsys, first, second, why):
 def test_names_like_testbench_and_proof_locals_are_fine(tmp_path, capsys):
     # The testbench's own signals (a, sum, dut, vec, W, ...) and the miter's ports live in other name spaces;
     # `verify --sim icarus,verilator --formal` on such names passed when this rule was written.
-    for n in ("dut", "vec", "gold", "trigger"):
+    for n in ("dut", "vec", "gold", "trigger", "sb_carry", "clk"):
         spec = tmp_path / f"{n}.yaml"
         spec.write_text(GOOD.replace("add8", n))
         assert run(["build", str(spec), "--out", str(tmp_path / "o")], capsys)[0] == 0
