@@ -10,7 +10,7 @@ from typing import Any
 import yaml
 
 from .errors import SpecError
-from .keywords import RESERVED
+from .keywords import BUILTIN_NAMES, RESERVED
 from .registry import MAX_WIDTH, Option, bool_option, schemes, shown, suggest, type_name, yaml11_hint
 
 _IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
@@ -265,6 +265,8 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
         fail_at("name", f"'name' must be a legal Verilog identifier (letters, digits, _; not starting with a digit), got '{shown(name)}'")
     if name in RESERVED:
         fail_at("name", f"'name' '{name}' is a Verilog/SystemVerilog keyword")
+    if name in BUILTIN_NAMES:
+        fail_at("name", f"'name' '{name}' is the name of SystemVerilog's built-in package")
     if len(name) > max_name:
         fail_at("name", f"'name' is {len(name)} characters long; at most {max_name} (file names are built from it)")
     if name.lower().startswith(RESERVED_PREFIX):
