@@ -130,13 +130,18 @@ _Loader.add_implicit_resolver("tag:yaml.org,2002:null", re.compile(r"^(?:~|null|
 _MAX_DIGITS = 1000  # no key takes a number this long; int() of a longer one is slow or refused
 
 
+_INT_FORM = re.compile(r"[-+]?(?:0[xX][0-9a-fA-F]+|0[oO][0-7]+|[0-9]+)\Z")
+
+
 def _construct_int(loader, node):
     text = loader.construct_scalar(node)
+    where = node.start_mark
+    if not isinstance(text, str) or not _INT_FORM.match(text):  # also for an explicit !!int tag
+        raise yaml.constructor.ConstructorError(None, None, f"'{shown(text)}' is not an integer", where)
     body = text.lstrip("+-")
     neg = text.startswith("-")
-    where = node.start_mark
     try:
-        if body[:2] in ("0x", "0X", "0o", "0O") and len(body) > 2:
+        if body[:2] in ("0x", "0X", "0o", "0O"):
             digits = body[2:]
             if len(digits) > _MAX_DIGITS:
                 raise yaml.constructor.ConstructorError(None, None, f"a number of {len(digits)} digits is too long", where)

@@ -35,7 +35,7 @@ ROOT = Path(__file__).resolve().parent.parent
 EXAMPLES = [p.read_bytes() for p in sorted((ROOT / "specs").glob("*.yaml"))]
 BUILD_LIMIT = {"lookahead": 24}  # flat lookahead is O(n^3) gates
 BUILD_WIDTH = 96
-CASE_SECONDS = 20  # a case that takes longer is a hang
+CASE_SECONDS = 60  # a case that takes longer is a hang (generous: CI machines are shared and slow)
 
 _SCHEMES = sorted(schemes())
 _OPTION_KEYS = sorted({o.key for s in schemes().values() for o in s.options})
@@ -266,7 +266,7 @@ def check_case(data: bytes, subprocess_run: bool = False) -> str:
         try:
             if subprocess_run:
                 r = subprocess.run([sys.executable, "-m", "adder_forge", *argv], capture_output=True, text=True,
-                                   timeout=CASE_SECONDS * 3)
+                                   timeout=CASE_SECONDS * 2)
                 code, err = r.returncode, r.stderr
             else:
                 buf_out, buf_err = io.StringIO(), io.StringIO()
