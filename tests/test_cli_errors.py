@@ -288,3 +288,16 @@ def test_keep_that_is_a_file_is_bad_input(tmp_path, capsys):
     code, _, err = run(["verify", str(spec), "--keep", str(afile)], capsys)  # before: a traceback, exit 1
     assert code == 2 and err.strip() == f"adder-forge verify: error: --keep {afile} is a file, not a folder"
     assert afile.read_text() == "mine\n"
+
+
+@pytest.mark.sim
+def test_sim_alias_runs_icarus(tmp_path, capsys):
+    import shutil
+
+    if not shutil.which("iverilog"):
+        pytest.skip("Icarus Verilog is not installed")
+    spec = tmp_path / "s.yaml"
+    spec.write_text(GOOD)
+    code, out, err = run(["verify", str(spec), "--sim", "IVerilog"], capsys)  # before: "did you mean 'verilator'"
+    assert code == 0, err
+    assert re.search(r"^add8\s+icarus\s+pass ", out, re.M) and out.strip().endswith("2 passed, 0 failed"), out
