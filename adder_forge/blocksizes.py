@@ -14,7 +14,7 @@ from __future__ import annotations
 
 from typing import Callable
 
-from .registry import Option, suggest, type_name
+from .registry import Option, shown, suggest, type_name, yaml11_hint
 
 AUTO = "auto"
 
@@ -25,9 +25,9 @@ def block_option(default, doc: str, allow_auto: bool, scheme: str) -> Option:
 
     def size(v, fail, where: str) -> int:
         if isinstance(v, bool) or not isinstance(v, int):
-            fail(f"'block' {where}must be an integer number of bits, got {type_name(v)}")
+            fail(f"'block' {where}must be an integer number of bits, got {type_name(v)}" + yaml11_hint(v))
         if v < 1:
-            fail(f"'block' {where}must be at least 1 bit, got {v}")
+            fail(f"'block' {where}must be at least 1 bit, got {shown(v)}")
         return v
 
     def parse(v, fail):
@@ -36,7 +36,8 @@ def block_option(default, doc: str, allow_auto: bool, scheme: str) -> Option:
                 return AUTO
             if v == AUTO:
                 fail(f"'block' has no automatic sizing for scheme '{scheme}': give an integer or a list of integers")
-            fail(f"'block' must be {forms}, got string '{v}'" + (suggest(v, [AUTO]) if allow_auto else ""))
+            fail(f"'block' must be {forms}, got string '{shown(v)}'" +
+                 (yaml11_hint(v) or (suggest(v, [AUTO]) if allow_auto else "")))
         if isinstance(v, (list, tuple)):
             if not v:
                 fail("'block' list is empty: give at least one block size")
@@ -52,7 +53,8 @@ def check_block(spec) -> None:
     """Cross-key rule: a list of sizes must cover the width exactly (spec-time, so the error has a place)."""
     v = spec.opt("block")
     if isinstance(v, tuple) and sum(v) != spec.width:
-        raise spec.error("block", f"'block' sizes {list(v)} add up to {sum(v)} bits but 'width' is {spec.width}")
+        shown_sizes = text(v) if len(v) <= 16 else f"({len(v)} sizes)"
+        raise spec.error("block", f"'block' sizes {shown_sizes} add up to {sum(v)} bits but 'width' is {spec.width}")
 
 
 def resolve(value, width: int, auto_rule: Callable[[int], tuple[int, ...]] | None = None) -> tuple[int, ...]:
@@ -67,6 +69,14 @@ def resolve(value, width: int, auto_rule: Callable[[int], tuple[int, ...]] | Non
         sizes = (k,) * (width // k) + ((width % k,) if width % k else ())
     assert sum(sizes) == width and all(s >= 1 for s in sizes), (value, width, sizes)
     return tuple(sizes)
+
+
+def wide_note(value, width: int) -> str | None:
+    """The note a build carries when a uniform ``block`` is wider than the adder (a sweep over widths with one
+    block size hits this): the scheme then has a single block, which the designer should see, not guess."""
+    if isinstance(value, int) and not isinstance(value, bool) and value > width:
+        return f"block {value} is wider than the {width}-bit adder: a single block of {width} bits"
+    return None
 
 
 def spans(sizes) -> list[tuple[int, int]]:

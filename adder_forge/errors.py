@@ -3,6 +3,11 @@
 from __future__ import annotations
 
 
+def one_line(text: str) -> str:
+    """Bad input gets one line: a line break inside a message (from a file name or a value) is escaped."""
+    return text.replace("\r", "\\r").replace("\n", "\\n")
+
+
 class AdderForgeError(Exception):
     """Base of every error the library raises on purpose."""
 
@@ -21,7 +26,26 @@ class SpecError(AdderForgeError):
         self.field = field
 
     def __str__(self) -> str:
-        return f"{self.file}:{self.line}:{self.col}: error: {self.message}"
+        return one_line(f"{self.file}:{self.line}:{self.col}: error: {self.message}")
+
+
+class UsageError(AdderForgeError):
+    """A bad command line (an option's value, a name): shown as ``adder-forge COMMAND: error: ...``.
+
+    There is no file to point at, so it carries the command instead of a location.
+    """
+
+    exit_status = 2
+
+    def __init__(self, message: str, command: str = "", option: str | None = None):
+        super().__init__(message)
+        self.message = message
+        self.command = command
+        self.option = option
+
+    def __str__(self) -> str:
+        prog = "adder-forge" + (f" {self.command}" if self.command else "")
+        return one_line(f"{prog}: error: {self.message}")
 
 
 class ToolError(AdderForgeError):

@@ -26,3 +26,7 @@ struct super sync_accept_on sync_reject_on tagged this throughout timeprecision 
 union unique unique0 until until_with untyped var virtual void wait_order weak wildcard with within""".split()
 
 RESERVED = frozenset(VERILOG_2001) | frozenset(SYSTEMVERILOG)
+
+# Not keywords, but names IEEE 1800 gives a built-in (the `std` package, clause 26.7 "The std built-in
+# package"): Verilator refuses a module of that name ("Location of instance's package declaration").
+BUILTIN_NAMES = frozenset({"std"})

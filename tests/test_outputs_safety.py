@@ -215,7 +215,8 @@ def test_output_path_that_is_a_file(tmp_path, capsys):
     spec = spec_file(tmp_path, "add4")
     (tmp_path / "out").write_text("a file\n")
     code, _, err = run(["build", spec, "--out", tmp_path / "out"], capsys)
-    assert code == 2 and err.startswith(f"{tmp_path / 'out'}: error: exists and is not a folder")
+    # caught by the command line's own check of --out, before any work
+    assert code == 2 and err == f"adder-forge build: error: --out {tmp_path / 'out'} is a file, not a folder\n"
     (tmp_path / "o2").mkdir()
     (tmp_path / "o2" / "add4").write_text("a file\n")
     code, _, err = run(["build", spec, "--out", tmp_path / "o2"], capsys)

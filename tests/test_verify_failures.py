@@ -108,7 +108,7 @@ def test_keep_that_is_a_file_is_bad_input(two_specs, tmp_path):
                             "--keep", str(where)], capture_output=True, text=True, timeout=120)
         assert r.returncode == 2, r.stderr
         assert len(r.stderr.strip().splitlines()) == 1 and "Traceback" not in r.stderr
-        assert f"--keep {where}:" in r.stderr and r.stdout == ""
+        assert r.stderr.startswith(f"adder-forge verify: error: --keep {where} ") and r.stdout == ""
     assert keep.read_text() == "mine\n"
 
 

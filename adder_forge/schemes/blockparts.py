@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from ..blocksizes import resolve, spans, text
+from ..blocksizes import resolve, spans, text, wide_note
 from ..builder import Builder
 from .common import Frame, generate_propagate, start
 
@@ -19,6 +19,7 @@ def begin(spec, auto_rule=None) -> tuple[Frame, list[tuple[int, int]], list[int]
     f = start(spec)
     sizes = resolve(spec.opt("block"), f.width, auto_rule)
     f.b.meta.append(("block_sizes", text(sizes)))
+    f.b.meta += [("note", n) for n in [wide_note(spec.opt("block"), f.width)] if n]
     g, p = generate_propagate(f)
     return f, spans(sizes), g, p
 

@@ -19,12 +19,15 @@ is used costs the AND2 back.
 
 from __future__ import annotations
 
-from ..blocksizes import block_option, check_block, resolve, spans, text
+from ..blocksizes import block_option, check_block, resolve, spans, text, wide_note
 from ..prefix_networks import NETWORKS, NetworkError, build, final_refs, param_levels, prune
 from ..registry import Option, choice_option, scheme, type_name
 from .blockparts import conditional, select
 from .common import finish, generate_propagate, start
 from .ling import LING, carry, transmits
+
+
+_ENTRY_MAX = 1 << 16  # more than any level count or fanout of a 16384-bit network; bounds the messages too
 
 
 def _int_list(key: str, what: str, lo: int, length: int | None = None):
@@ -34,6 +37,8 @@ def _int_list(key: str, what: str, lo: int, length: int | None = None):
         for x in v:
             if isinstance(x, bool) or not isinstance(x, int) or x < lo:
                 fail(f"'{key}' must be {what}, got an entry {type_name(x)}")
+            if x > _ENTRY_MAX:
+                fail(f"'{key}' entries must be at most {_ENTRY_MAX}, got {type_name(x)}")
         return tuple(v)
 
     return parse
@@ -101,6 +106,7 @@ def prefix_adder(spec):
     graph, sizes = network_for(spec)
     if any(s > 1 for s in sizes):
         b.meta.append(("block_sizes", text(sizes)))
+    b.meta += [("note", n) for n in [wide_note(spec.opt("block"), spec.width)] if n]
     g, p = generate_propagate(f)
     gen = [f.cin] * ci + g
     t = None
