@@ -38,6 +38,9 @@ def _parser() -> argparse.ArgumentParser:
     v.add_argument("--sim", action="append", default=[], metavar="NAME",
                    help="also run icarus, verilator, cocotb-icarus, cocotb-verilator, or all (comma list, repeatable)")
     v.add_argument("--formal", action="store_true", help="prove equivalence to a + b + cin with Yosys")
+    v.add_argument("--exhaustive", action="store_true",
+                   help="built-in check of every input up to 2^33 vectors, a 16-bit adder with carry-in "
+                        "(by default every input up to 2^25, a 12-bit adder with carry-in)")
     v.add_argument("--vectors", type=int, default=4096, metavar="N",
                    help="random vectors beside the directed ones where a check is not exhaustive (default 4096)")
     v.add_argument("--seed", type=int, default=1, metavar="S")
@@ -88,10 +91,22 @@ def _load_all(paths: list[str]):
     return specs
 
 
-def _designs(specs, tb_random: int = 2000, seed: int = 1):
-    from .artifacts import design
+def _progress():
+    from .progress import for_stream
 
-    return [design(s, tb_random=tb_random, seed=seed) for s in specs]
+    return for_stream(sys.stderr)
+
+
+def _designs(specs, tb_random: int = 2000, seed: int = 1, progress=None):
+    from .artifacts import design
+    from .progress import NULL
+
+    with (progress or NULL).task("designs", total=len(specs), unit="specs") as task:
+        out = []
+        for s in specs:
+            out.append(design(s, tb_random=tb_random, seed=seed))
+            task.advance()
+    return out
 
 
 def cmd_build(args) -> int:
@@ -99,7 +114,7 @@ def cmd_build(args) -> int:
 
     if args.tb_vectors < 0:
         raise SpecError("--tb-vectors must be 0 or more", "<command line>", 1, 1, "--tb-vectors")
-    designs = _designs(_load_all(args.specs), args.tb_vectors, args.seed)
+    designs = _designs(_load_all(args.specs), args.tb_vectors, args.seed, _progress())
     written = write_folders(Path(args.out), {d.spec.name: d.files() for d in designs})
     from .report import describe
 
@@ -137,10 +152,16 @@ def cmd_verify(args) -> int:
     sims = _sims(args.sim)
     if args.vectors < 0:
         raise SpecError("--vectors must be 0 or more", "<command line>", 1, 1, "--vectors")
-    designs = _designs(_load_all(args.specs), tb_random=args.vectors, seed=args.seed)
+    from .verify import builtin_plan
+
+    specs = _load_all(args.specs)
+    for s in specs:  # a spec too wide for --exhaustive fails here, before any work
+        builtin_plan(s, args.vectors, args.seed, args.exhaustive)
+    progress = _progress()
+    # Only the simulators read the testbench: without them its vectors would be drawn and held for nothing.
+    designs = _designs(specs, tb_random=args.vectors if sims else 0, seed=args.seed, progress=progress)
     results = verify(designs, sims, args.formal, args.vectors, args.seed,
-                     Path(args.keep) if args.keep else None,
-                     progress=lambda m: print(f"... {m}", file=sys.stderr, flush=True))
+                     Path(args.keep) if args.keep else None, progress=progress, exhaustive=args.exhaustive)
     width = max(len(o.name) for o in results)
     bad = 0
     for o in results:
@@ -159,7 +180,7 @@ def cmd_report(args) -> int:
 
     flows = [f.strip() for f in args.synth.split(",") if f.strip()]
     specs = _load_all(args.specs)
-    results = measure_specs(specs, flows, Path(args.out), progress=lambda m: print(f"... {m}", file=sys.stderr, flush=True))
+    results = measure_specs(specs, flows, Path(args.out), progress=_progress())
     print(format_table(results))
     return EXIT_OK
 
