@@ -73,6 +73,11 @@ BLOCK_WORDS = 1 << 13  # exhaustive checks: 64-bit words a worker evaluates at a
 BLOCKS_PER_TASK = 8  # ... and blocks per task handed to a thread (fewer hand-offs, finer progress)
 
 
+def default_workers() -> int:
+    """Threads a check uses unless told: two where there are two cores (the machine this targets)."""
+    return min(2, os.cpu_count() or 1)
+
+
 def check(net: Network, plan: Plan, chunk: int = 1 << 20, workers: int | None = None,
           progress: Progress | None = None, label: str = "builtin") -> CheckResult:
     """Check every vector of ``plan`` against Python integer addition.
@@ -86,7 +91,7 @@ def check(net: Network, plan: Plan, chunk: int = 1 << 20, workers: int | None = 
     is reported exactly. ``progress`` gets one task, ``label``, counted in vectors.
     """
     progress = progress or NULL
-    workers = workers or min(2, os.cpu_count() or 1)
+    workers = workers or default_workers()
     with progress.task(label, total=plan.count, unit="vectors") as task:
         if plan.exhaustive and plan.width >= 6:
             return _check_bitsliced(net, plan, workers, task)

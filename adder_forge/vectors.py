@@ -427,19 +427,20 @@ class ExhaustiveBlocks:
             t ^= plane
             acc |= t
         if len(got) > 6:
-            carry = sc.carry
+            carry, flips = sc.carry, sc.flips
             np.take(_LOW_SIX[6], sc.low.view(np.int64), out=carry)
-            np.add(base, np.uint64(64), out=sc.base64)
+            np.add(base, np.uint64(64), out=flips)
+            flips ^= base  # the bits that a carry out of the low six bits changes
+            ti, ui = t.view(np.int64), u.view(np.int64)
             for j, plane in enumerate(got[6:], start=6):
-                # expected = bit j of base where no carry, of base + 64 where one: all-0/all-1 words, mixed
-                np.right_shift(base, np.uint64(j), out=t)
-                t &= np.uint64(1)
-                np.negative(t, out=t)  # 0 or all ones
-                np.right_shift(sc.base64, np.uint64(j), out=u)
-                u &= np.uint64(1)
-                np.negative(u, out=u)
-                u ^= t
+                # expected = bit j of base where no carry, of base + 64 where one: bit j of base in every
+                # lane (moved to the top, then copied down by an arithmetic shift), flipped where both the
+                # carry and bit j of ``flips`` are set
+                np.left_shift(flips, np.uint64(63 - j), out=u)
+                np.right_shift(ui, 63, out=ui)
                 u &= carry
+                np.left_shift(base, np.uint64(63 - j), out=t)
+                np.right_shift(ti, 63, out=ti)
                 u ^= t
                 u ^= plane
                 acc |= u
@@ -450,5 +451,5 @@ class BlockScratch:
     """One thread's work arrays for ``ExhaustiveBlocks.mismatches``."""
 
     def __init__(self, words: int):
-        self.word, self.base, self.base64, self.low, self.carry, self.t, self.u, self.acc = (
+        self.word, self.base, self.flips, self.low, self.carry, self.t, self.u, self.acc = (
             np.empty(words, dtype=np.uint64) for _ in range(8))
