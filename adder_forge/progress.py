@@ -6,8 +6,8 @@ for a one-off event, or opens ``task(label, total, unit)`` and calls ``advance(n
 
 Two that show, chosen by ``for_stream``: on a terminal, tqdm bars (a task's bar appears only once it has
 run for ``BAR_DELAY`` seconds, so quick steps stay quiet); elsewhere (a log, a pipe, CI), plain lines, one
-per event and never a carriage return: a note is a line, and a task gets one line when it has run for
-``LINE_DELAY`` seconds and one when it ends.
+per event and never a carriage return: a note is a line, and a task that is still unfinished after
+``LINE_DELAY`` seconds gets one line then and one when it ends (a quick one, none).
 """
 
 from __future__ import annotations
@@ -16,7 +16,7 @@ import time
 from typing import Callable, TextIO
 
 BAR_DELAY = 0.5
-LINE_DELAY = 2.0
+LINE_DELAY = 3.0
 
 
 class Task:
@@ -112,7 +112,8 @@ class Lines(Progress):
         self._line(message)
 
     def _advance(self, task: Task, n: int) -> None:
-        if id(task) not in self._shown and time.monotonic() - task.started >= self.delay:
+        unfinished = task.total is None or task.done < task.total  # a task seen only as it ends says nothing
+        if unfinished and id(task) not in self._shown and time.monotonic() - task.started >= self.delay:
             self._shown.add(id(task))
             self._line(f"{task.label}: {_count(task, task.done)} so far")
 
