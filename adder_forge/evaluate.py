@@ -1,7 +1,9 @@
 """Bit-parallel evaluation of the IR: each net is a numpy array of uint64 words, 64 vectors a word.
 
 A plane is dropped as soon as its last reader has run, so a wide network needs memory for its live
-frontier only.
+frontier only. ``Evaluator`` is the plain form; ``schedule`` + ``Kernel`` compile the same meaning into
+ufunc calls on reused buffers, for checks that evaluate one network on millions of blocks (a test holds
+the two equal on every scheme).
 """
 
 from __future__ import annotations
@@ -101,8 +103,9 @@ class Schedule:
     """Slot assignment for a network: which buffer holds each net, and the steps that compute them.
 
     steps: (ufunc name, input slots, output slot), in order; slot 0 holds zeros and slot 1 ones, never
-    written. An output slot is never one of its step's own inputs, so a gate of several steps may build
-    its result in place.
+    written. A gate's output slot is none of the gate's input slots, so a gate of several steps (AO21,
+    MUX2, XNOR2) may build its result in place. Input slots are never reused; output bits' slots are never
+    given back, so they hold the results when the last step has run.
     """
 
     slots: int
