@@ -41,6 +41,9 @@ def _parser() -> argparse.ArgumentParser:
     v.add_argument("--sim", action="append", default=[], metavar="NAME",
                    help="also run icarus, verilator, cocotb-icarus, cocotb-verilator, or all (comma list, repeatable)")
     v.add_argument("--formal", action="store_true", help="prove equivalence to a + b + cin with Yosys")
+    v.add_argument("--exhaustive", action="store_true",
+                   help="built-in check of every input up to 2^33 vectors, a 16-bit adder with carry-in "
+                        "(by default every input up to 2^25, a 12-bit adder with carry-in)")
     v.add_argument("--vectors", type=int, default=4096, metavar="N",
                    help="random vectors beside the directed ones where a check is not exhaustive (default 4096)")
     v.add_argument("--seed", type=int, default=1, metavar="S")
@@ -115,10 +118,22 @@ def _load_all(paths: list[str]):
     return specs
 
 
-def _designs(specs, tb_random: int = 2000, seed: int = 1):
-    from .artifacts import design
+def _progress():
+    from .progress import for_stream
 
-    return [design(s, tb_random=tb_random, seed=seed) for s in specs]
+    return for_stream(sys.stderr)
+
+
+def _designs(specs, tb_random: int = 2000, seed: int = 1, progress=None):
+    from .artifacts import design
+    from .progress import NULL
+
+    with (progress or NULL).task("designs", total=len(specs), unit="specs") as task:
+        out = []
+        for s in specs:
+            out.append(design(s, tb_random=tb_random, seed=seed))
+            task.advance()
+    return out
 
 
 def cmd_build(args) -> int:
@@ -127,7 +142,7 @@ def cmd_build(args) -> int:
 
     if args.tb_vectors < 0:
         raise UsageError(f"--tb-vectors must be 0 or more, got {args.tb_vectors}", "build", "--tb-vectors")
-    designs = _designs(_load_all(args.specs), args.tb_vectors, args.seed)
+    designs = _designs(_load_all(args.specs), args.tb_vectors, args.seed, _progress())
     written = write_folders(Path(args.out), [output_folder(d) for d in designs], force=args.force)
     for d, w in zip(designs, written):
         print(_build_line(d, w.path) + "".join(f"; {n}" for n in w.notes))
@@ -194,10 +209,17 @@ def cmd_verify(args) -> int:
     sims = _sims(args.sim)
     if args.vectors < 0:
         raise UsageError(f"--vectors must be 0 or more, got {args.vectors}", "verify", "--vectors")
+    from .verify import builtin_plan
+
     keep = _keep_folder(args.keep) if args.keep else None
-    designs = _designs(_load_all(args.specs), tb_random=args.vectors, seed=args.seed)
-    found = verify(designs, sims, args.formal, args.vectors, args.seed, keep,
-                   progress=lambda m: print(f"... {m}", file=sys.stderr, flush=True))
+    specs = _load_all(args.specs)
+    for s in specs:  # a spec too wide for --exhaustive fails here, before any work
+        builtin_plan(s, args.vectors, args.seed, args.exhaustive)
+    progress = _progress()
+    # Only the simulators read the testbench: without them its vectors would be drawn and held for nothing.
+    designs = _designs(specs, tb_random=args.vectors if sims else 0, seed=args.seed, progress=progress)
+    found = verify(designs, sims, args.formal, args.vectors, args.seed, keep, progress=progress,
+                   exhaustive=args.exhaustive)
     results, stopped = found.outcomes, found.stopped
     names = [o.name for o in results] + ([stopped.name] if stopped else [])
     width = max(len(n) for n in names)
@@ -236,8 +258,7 @@ def cmd_report(args) -> int:
 
     flows = _flows(args.synth)
     specs = _load_all(args.specs)
-    results = measure_specs(specs, flows, Path(args.out), progress=lambda m: print(f"... {m}", file=sys.stderr, flush=True),
-                            force=args.force)
+    results = measure_specs(specs, flows, Path(args.out), progress=_progress(), force=args.force)
     print(format_table(results))
     for r in results:
         print(f"{r['name']}: figures written to {r['json']}")

@@ -174,6 +174,13 @@ class Plan:
             return f"exhaustive, 2^{space_bits(self.width, self.carry_in)} vectors"
         return f"directed carry-chain patterns + {self.random_count} random (seed {self.seed})"
 
+    @property
+    def count(self) -> int:
+        """How many vectors ``chunks()`` yields, without drawing them."""
+        if self.exhaustive:
+            return 1 << space_bits(self.width, self.carry_in)
+        return len(directed(self.width, self.carry_in)) + self.random_count
+
     def chunks(self, chunk: int = 1 << 20) -> Iterator[VectorSet]:
         if self.exhaustive:
             yield from exhaustive_chunks(self.width, self.carry_in, chunk)
@@ -322,3 +329,127 @@ def valid_mask(v: int) -> np.ndarray:
     if v % 64:
         m[-1] = np.uint64((1 << (v % 64)) - 1)
     return m
+
+
+# -- the exhaustive enumeration as bit planes, never as vectors ----------------------------------------------
+def _low_six_tables() -> np.ndarray:
+    """(7, 64) words: row j < 6, column x: the plane of bit j of x + r over the 64 lanes r of a word; row 6,
+    column x: the lanes where x + r >= 64 (a carry out of the low six bits). By Python integer addition."""
+    t = np.zeros((7, 64), dtype=np.uint64)
+    for x in range(64):
+        rows = [0] * 7
+        for r in range(64):
+            s = x + r
+            for j in range(6):
+                rows[j] |= ((s >> j) & 1) << r
+            rows[6] |= (s >> 6) << r
+        t[:, x] = rows
+    return t
+
+
+_LOW_SIX = _low_six_tables()
+ONES = np.uint64(0xFFFFFFFFFFFFFFFF)
+
+
+class ExhaustiveBlocks:
+    """Every input of a ``width``-bit adder (a in the low index bits, then b, then cin, as in
+    ``exhaustive_chunks``), as bit planes in blocks of ``words`` 64-bit words, with the reference.
+
+    Lane r of word w is vector 64 w + r. Index bits 0..5 are the same pattern in every word (0xAAAA...,
+    0xCCCC..., ...), bits 6 .. 6 + log2(words) - 1 the same in every block (blocks start at multiples of
+    ``words``), and the bits above are constant over a block: so a block's planes are fixed ones plus a
+    few all-0 or all-1 planes, and no vector is ever held. Needs width >= 6 (a word's lanes then differ
+    only in a's low six bits).
+
+    The reference is integer addition a word at a time: the 64 vectors of word w share everything but a's
+    low six bits, so their sums are base + r with base = (a - r) + b + cin; bits below 6 of base + r come
+    from a table of x + r (x = base mod 64), and bit j >= 6 is bit j of base, or of base + 64 in the lanes
+    where x + r carries out of the low six bits.
+    """
+
+    def __init__(self, width: int, carry_in: bool, words: int = 1 << 13):
+        if width < 6:
+            raise ValueError("the bit-sliced enumeration needs a width of at least 6")
+        self.width, self.carry_in = width, carry_in
+        self.bits = space_bits(width, carry_in)
+        if self.bits > 63:
+            raise ValueError("input space too large for exhaustive enumeration")
+        total_words = 1 << (self.bits - 6)
+        self.words = min(words, total_words)
+        assert self.words & (self.words - 1) == 0, "block words must be a power of two"
+        self.blocks = total_words // self.words
+        self.fixed_bits = 6 + self.words.bit_length() - 1  # index bits that do not change from block to block
+        self._lane_words = np.arange(self.words, dtype=np.uint64)
+
+    def fixed_planes(self) -> list[np.ndarray]:
+        """Planes of index bits 0 .. fixed_bits - 1 (the same in every block)."""
+        out = []
+        for j in range(min(self.fixed_bits, self.bits)):
+            if j < 6:
+                out.append(np.full(self.words, np.uint64(sum(1 << r for r in range(64) if (r >> j) & 1))))
+            else:
+                out.append(((self._lane_words >> np.uint64(j - 6)) & np.uint64(1)) * ONES)
+        return out
+
+    def block_bits(self, block: int) -> list[int]:
+        """Values (0 or 1) of index bits fixed_bits .. bits - 1 over the whole of ``block``."""
+        return [(block >> (j - self.fixed_bits)) & 1 for j in range(self.fixed_bits, self.bits)]
+
+    def port_bit(self, j: int) -> tuple[str, int]:
+        """Which input bit index bit j is."""
+        w = self.width
+        return ("a", j) if j < w else ("b", j - w) if j < 2 * w else ("cin", 0)
+
+    def vector(self, index: int) -> tuple[int, int, int]:
+        m = (1 << self.width) - 1
+        return index & m, (index >> self.width) & m, index >> (2 * self.width)
+
+    def mismatches(self, block: int, got: list[np.ndarray], scratch: "BlockScratch") -> np.ndarray:
+        """Lanes of ``block`` where ``got`` (output planes, sum bits then cout if present) differs from
+        a + b + cin: a (words,) uint64 mask, owned by ``scratch``."""
+        w = self.width
+        sc = scratch
+        np.add(self._lane_words, np.uint64(block * self.words), out=sc.word)  # word index of each column
+        base, t, u = sc.base, sc.t, sc.u
+        np.bitwise_and(sc.word, np.uint64((1 << (w - 6)) - 1), out=base)  # a without its low six bits
+        np.left_shift(base, np.uint64(6), out=base)
+        np.right_shift(sc.word, np.uint64(w - 6), out=t)
+        np.bitwise_and(t, np.uint64((1 << w) - 1), out=t)  # b
+        base += t
+        if self.carry_in:
+            np.right_shift(sc.word, np.uint64(2 * w - 6), out=t)  # cin (the top index bit)
+            base += t
+        np.bitwise_and(base, np.uint64(63), out=sc.low)
+        acc = sc.acc
+        acc[:] = 0
+        for j, plane in enumerate(got[:6]):
+            np.take(_LOW_SIX[j], sc.low.view(np.int64), out=t)
+            t ^= plane
+            acc |= t
+        if len(got) > 6:
+            carry, flips = sc.carry, sc.flips
+            np.take(_LOW_SIX[6], sc.low.view(np.int64), out=carry)
+            np.add(base, np.uint64(64), out=flips)
+            flips ^= base  # the bits that a carry out of the low six bits changes
+            ti, ui = t.view(np.int64), u.view(np.int64)
+            for j, plane in enumerate(got[6:], start=6):
+                # expected = bit j of base where no carry, of base + 64 where one: bit j of base in every
+                # lane (moved to the top, then copied down by an arithmetic shift), flipped where both the
+                # carry and bit j of ``flips`` are set
+                np.left_shift(flips, np.uint64(63 - j), out=u)
+                np.right_shift(ui, 63, out=ui)
+                u &= carry
+                np.left_shift(base, np.uint64(63 - j), out=t)
+                np.right_shift(ti, 63, out=ti)
+                u ^= t
+                u ^= plane
+                acc |= u
+        return acc
+
+
+class BlockScratch:
+    """One thread's work arrays for ``ExhaustiveBlocks.mismatches``."""
+
+    def __init__(self, words: int):
+        self.word, self.base, self.flips, self.low, self.carry, self.t, self.u, self.acc = (
+            np.empty(words, dtype=np.uint64) for _ in range(8))

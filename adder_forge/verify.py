@@ -12,9 +12,12 @@ from typing import Callable
 from .artifacts import Design
 from .builtin import check as builtin_check
 from .errors import ToolError
-from .vectors import make_plan
+from .progress import Progress, as_progress
+from .spec import Spec
+from .vectors import Plan, make_plan, space_bits
 
-BUILTIN_EXHAUSTIVE_LIMIT = 1 << 24
+BUILTIN_EXHAUSTIVE_LIMIT = 1 << 25  # every input by default up to here: a 12-bit adder with carry-in
+FORCED_EXHAUSTIVE_LIMIT = 1 << 33  # `verify --exhaustive`: up to a 16-bit adder with carry-in
 CHECKERS = ("builtin", "icarus", "verilator", "cocotb-icarus", "cocotb-verilator", "formal")
 
 
@@ -46,12 +49,26 @@ class Verdicts:
     stopped: Stopped | None = None
 
 
+def builtin_plan(spec: Spec, random_count: int, seed: int, exhaustive: bool = False) -> Plan:
+    """The built-in check's vectors: every input up to ``BUILTIN_EXHAUSTIVE_LIMIT``, else directed and
+    random ones; with ``exhaustive``, every input up to ``FORCED_EXHAUSTIVE_LIMIT`` or a SpecError."""
+    if exhaustive:
+        bits = space_bits(spec.width, spec.carry_in)
+        if 1 << bits > FORCED_EXHAUSTIVE_LIMIT:
+            ports = "with carry-in" if spec.carry_in else "without carry-in"
+            raise spec.error("width", f"--exhaustive: a {spec.width}-bit adder {ports} has 2^{bits} input "
+                                      f"vectors; the limit is 2^33 (a 16-bit adder with carry-in)")
+        return make_plan(spec.width, spec.carry_in, FORCED_EXHAUSTIVE_LIMIT, random_count, seed)
+    return make_plan(spec.width, spec.carry_in, BUILTIN_EXHAUSTIVE_LIMIT, random_count, seed)
+
+
 def verify(designs: list[Design], sims: list[str], formal: bool, random_count: int, seed: int,
-           workdir: Path | None = None, progress: Callable[[str], None] | None = None) -> Verdicts:
+           workdir: Path | None = None, progress: Progress | Callable[[str], None] | None = None,
+           exhaustive: bool = False) -> Verdicts:
     """Run the checks in a fixed order; the first tool failure ends the run, keeping what finished."""
     out: list[Outcome] = []
     try:
-        _run(designs, sims, formal, random_count, seed, workdir, progress or (lambda _m: None), out)
+        _run(designs, sims, formal, random_count, seed, workdir, as_progress(progress), out, exhaustive)
     except _Stop as stop:
         return Verdicts(out, stop.stopped)
     return Verdicts(out)
@@ -72,11 +89,13 @@ def _checking(name: str, checker: str):
 
 
 def _run(designs: list[Design], sims: list[str], formal: bool, random_count: int, seed: int,
-         workdir: Path | None, say: Callable[[str], None], out: list[Outcome]) -> None:
+         workdir: Path | None, progress: Progress, out: list[Outcome], exhaustive: bool) -> None:
+    say = progress
     plans = {d.spec.name: d.plan for d in designs}
     for d in designs:
         t = time.monotonic()
-        r = builtin_check(d.net, make_plan(d.spec.width, d.spec.carry_in, BUILTIN_EXHAUSTIVE_LIMIT, random_count, seed))
+        r = builtin_check(d.net, builtin_plan(d.spec, random_count, seed, exhaustive), progress=progress,
+                          label=f"builtin: {d.spec.name}")
         detail = r.detail if r.ok else f"first failing vector: {r.first.describe(d.spec.width)}"
         out.append(Outcome(d.spec.name, "builtin", r.ok, r.vectors, r.failed, detail, time.monotonic() - t))
     with tempfile.TemporaryDirectory(prefix="adder_forge_verify_") as tmp:

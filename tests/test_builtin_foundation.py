@@ -7,6 +7,7 @@ from adder_forge.ir import check_well_formed
 from adder_forge.passes import break_gate, gate_indices
 from adder_forge.registry import elaborate
 from adder_forge.spec import make_spec
+from adder_forge.verify import BUILTIN_EXHAUSTIVE_LIMIT
 from adder_forge.vectors import make_plan, space_bits
 from matrix_foundation import CONFIGS
 
@@ -16,10 +17,10 @@ def test_adds_like_python(cfg):
     spec = make_spec(**cfg)
     net = elaborate(spec)
     check_well_formed(net)
-    plan = make_plan(spec.width, spec.carry_in, 1 << 24, 3000, seed=7)
+    plan = make_plan(spec.width, spec.carry_in, BUILTIN_EXHAUSTIVE_LIMIT, 3000, seed=7)
     r = check(net, plan)
     assert r.ok, r.first
-    if space_bits(spec.width, spec.carry_in) <= 24:
+    if space_bits(spec.width, spec.carry_in) <= 25:
         assert plan.exhaustive and r.vectors == 1 << space_bits(spec.width, spec.carry_in)
 
 
@@ -28,7 +29,7 @@ def test_every_single_broken_gate_is_caught(scheme):
     """Mutation check of the checker itself: each gate of a 4-bit adder swapped in turn must be noticed by
     an exhaustive comparison with integer addition."""
     net = elaborate(make_spec("m4", 4, scheme))
-    plan = make_plan(4, True, 1 << 24, 0, 1)
+    plan = make_plan(4, True, BUILTIN_EXHAUSTIVE_LIMIT, 0, 1)
     caught = 0
     for i in gate_indices(net):
         r = check(break_gate(net, i), plan)
@@ -42,5 +43,5 @@ def test_every_single_broken_gate_is_caught(scheme):
 def test_wide_random_and_directed_vectors_pass():
     for w in (100, 257, 1024):
         net = elaborate(make_spec("w", w, "ripple"))
-        r = check(net, make_plan(w, True, 1 << 24, 500, seed=3))
+        r = check(net, make_plan(w, True, BUILTIN_EXHAUSTIVE_LIMIT, 500, seed=3))
         assert r.ok and r.vectors > 500

@@ -97,3 +97,68 @@ def test_random_check_of_a_wide_adder_passes_and_a_broken_one_fails():
     plan = v.make_plan(96, True, 0, 5000, 2)
     assert check(elaborate(make_spec("r96", 96, "ripple")), plan).ok
     assert not check(broken(96), plan).ok
+
+
+def _kernel_outputs(net, vs):
+    from adder_forge.evaluate import Kernel, schedule
+
+    inputs = v.input_planes(vs, net.port("cin") is not None)
+    k = Kernel(schedule(net), next(iter(inputs.values())).shape[1])
+    for name, planes in inputs.items():
+        for dst, src in zip(k.input(name), planes):
+            dst[:] = src
+    k.run()
+    return {p.name: np.stack(k.output(p.name)) for p in net.outputs}
+
+
+def _scheme_cases():
+    from adder_forge.registry import schemes
+
+    for name, sch in schemes().items():
+        if name == "prefix":
+            for p in ("kogge-stone", "brent-kung", "sklansky", "han-carlson", "ladner-fischer"):
+                yield name, {"prefix": p}
+        else:
+            yield name, {}
+
+
+@pytest.mark.parametrize("scheme,opts", list(_scheme_cases()), ids=lambda x: x if isinstance(x, str) else "")
+@pytest.mark.parametrize("width,carry_in,carry_out", [(1, True, True), (7, False, True), (16, True, False),
+                                                      (33, True, True)])
+def test_compiled_kernel_computes_what_the_evaluator_computes(scheme, opts, width, carry_in, carry_out):
+    """The slot-reusing kernel of the exhaustive path gives the plain evaluator's planes, net for net of
+    every output, on every scheme (the behavioural one's ADD cell included)."""
+    from adder_forge.evaluate import Evaluator
+    from adder_forge.registry import schemes
+
+    if width > schemes()[scheme].max_width:
+        pytest.skip("width beyond the scheme's range")
+    net = elaborate(make_spec("k", width, scheme, carry_in=carry_in, carry_out=carry_out, **opts))
+    vs = v.random_set(width, carry_in, 640, 9)
+    want = Evaluator(net).run(v.input_planes(vs, carry_in))
+    got = _kernel_outputs(net, vs)
+    assert want.keys() == got.keys()
+    for name in want:
+        assert (want[name] == got[name]).all(), name
+
+
+def test_compiled_kernel_on_odd_networks():
+    """Outputs that are inputs or constants, dead gates, an output read twice, a gate reading one net twice."""
+    from adder_forge.evaluate import Evaluator
+
+    b = Builder("odd")
+    a = b.input("a", 3)
+    x = b.input("b", 3)
+    dead = b.AND(a[0], x[0])  # no reader
+    del dead
+    t = b.XOR(a[1], x[1])
+    u = b.AO21(t, t, a[2])
+    m = b.MUX(a[0], u, x[2])
+    b.output("sum", [a[0], b.const(1), m])
+    b.output("cout", [m], scalar=True)
+    net = b.finish()
+    vs = v.random_set(3, False, 256, 4)
+    want = Evaluator(net).run(v.input_planes(vs, False))
+    got = _kernel_outputs(net, vs)
+    for name in want:
+        assert (want[name] == got[name]).all(), name

@@ -82,8 +82,8 @@ def test_a_mismatch_found_before_a_tool_failure_wins(two_specs, capsys, monkeypa
     """A wrong adder must not be reported as only 'a tool failed': exit 1, the FAIL row kept."""
     real = cli._designs
 
-    def designs(specs, tb_random=2000, seed=1):
-        out = real(specs, tb_random, seed)
+    def designs(specs, tb_random=2000, seed=1, progress=None):
+        out = real(specs, tb_random, seed, progress)
         spec = out[0].spec
         net = elaborate(spec)
         return [design(spec, net=break_gate(net, gate_indices(net, "carry")[1]))] + out[1:]
