@@ -43,5 +43,6 @@ def emit_testbench(name: str, width: int, carry_in: bool, carry_out: bool, plan:
 
     lines, count = vector_lines(plan, carry_out)
     text = render("testbench.v.j2", name=name, width=width, count=count, carry_in=carry_in,
-                  carry_out=carry_out, plan=plan.describe(), version=__version__)
+                  carry_out=carry_out, plan=plan.describe(), version=__version__,
+                  vectors_file=f"{name}_vectors.hex", selection=[])
     return Testbench(text, "\n".join(lines) + "\n", count)
