@@ -66,11 +66,14 @@ def stage(designs: list[Design], workdir: Path) -> tuple[list[str], str, list[st
     """Write sources and vectors into workdir; return (source files, top module, defines)."""
     workdir.mkdir(parents=True, exist_ok=True)
     files = []
+    vectors: set[str] = set()
     for d in designs:
         n = d.spec.name
         (workdir / f"{n}.v").write_text(d.verilog, encoding="utf-8")
         (workdir / f"{n}_tb.v").write_text(d.testbench.verilog, encoding="utf-8")
-        d.testbench.write_vectors(workdir / f"{n}_vectors.hex")  # streamed, not built in memory
+        if d.testbench.vectors_file not in vectors:  # shared by the variants of one design (mutation tests)
+            d.testbench.write_vectors(workdir / d.testbench.vectors_file)  # streamed, not built in memory
+            vectors.add(d.testbench.vectors_file)
         files += [f"{n}.v", f"{n}_tb.v"]
     if len(designs) == 1:
         return files, f"{designs[0].spec.name}_tb", []

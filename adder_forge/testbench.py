@@ -156,6 +156,7 @@ class Testbench:
     plan: Plan
     carry_out: bool
     pick: Sample
+    vectors_file: str  # the file it reads by default; several testbenches may share one
 
     def lines(self) -> Iterator[str]:
         return vector_lines(self.plan, self.carry_out, self.pick)
@@ -183,9 +184,10 @@ def emit_testbench(name: str, width: int, carry_in: bool, carry_out: bool, plan:
     from .templating import render
 
     pick = Sample.of(plan, max_bytes)
+    vectors_file = vectors_file or f"{name}_vectors.hex"
     text = render("testbench.v.j2", name=name, width=width, count=pick.count, carry_in=carry_in,
                   carry_out=carry_out, plan=plan.describe(), version=__version__,
-                  vectors_file=vectors_file or f"{name}_vectors.hex", selection=pick.describe(),
+                  vectors_file=vectors_file, selection=pick.describe(),
                   cap=f"{max_bytes / 2**20:g} MiB", line_bytes=pick.line_bytes,
                   cap_vectors=pick.budget)
-    return Testbench(text, pick.count, plan, carry_out, pick)
+    return Testbench(text, pick.count, plan, carry_out, pick, vectors_file)
