@@ -26,6 +26,7 @@ QUICK_BUILD = ("--output-split-cfuncs", "2000", "-MAKEFLAGS", "OPT_FAST=-O0", "-
 BATCH_GATES = 40000  # designs per simulator build, by gate count, so one build stays within minutes
 _SUMMARY = re.compile(r"^(\w+): (\d+) passed, (\d+) failed\s*$", re.M)
 _MISMATCH = re.compile(r"^(\w+): MISMATCH (.*)$", re.M)
+_FILE_ERROR = re.compile(r"^(\w+): VECTORS ERROR (.*)$", re.M)
 
 
 @dataclass(frozen=True)
@@ -65,11 +66,15 @@ def stage(designs: list[Design], workdir: Path) -> tuple[list[str], str, list[st
     """Write sources and vectors into workdir; return (source files, top module, defines)."""
     workdir.mkdir(parents=True, exist_ok=True)
     files = []
+    vectors: set[str] = set()
     for d in designs:
-        for fname, text in d.files().items():
-            if not fname.endswith(".json"):
-                (workdir / fname).write_text(text, encoding="utf-8")
-        files += [f"{d.spec.name}.v", f"{d.spec.name}_tb.v"]
+        n = d.spec.name
+        (workdir / f"{n}.v").write_text(d.verilog, encoding="utf-8")
+        (workdir / f"{n}_tb.v").write_text(d.testbench.verilog, encoding="utf-8")
+        if d.testbench.vectors_file not in vectors:  # shared by the variants of one design (mutation tests)
+            d.testbench.write_vectors(workdir / d.testbench.vectors_file)  # streamed, not built in memory
+            vectors.add(d.testbench.vectors_file)
+        files += [f"{n}.v", f"{n}_tb.v"]
     if len(designs) == 1:
         return files, f"{designs[0].spec.name}_tb", []
     (workdir / f"{BATCH_TOP}.v").write_text(batch_top(designs), encoding="utf-8")
@@ -131,11 +136,15 @@ def outcomes(designs: list[Design], simulator: str, res: Result) -> list[SimOutc
     first: dict[str, str] = {}
     for m in _MISMATCH.finditer(text):
         first.setdefault(m.group(1), m.group(2))
+    file_error: dict[str, str] = {}
+    for m in _FILE_ERROR.finditer(text):
+        file_error.setdefault(m.group(1), m.group(0))
     out = []
     for d in designs:
         n = d.spec.name
         passed, failed = summary.get(n, (0, 0))
         if n not in summary:
             failed = d.testbench.count  # the testbench never reported: count every vector as unchecked
-        out.append(SimOutcome(n, simulator, passed, failed, first.get(n), res.returncode, res.tail(10)))
+        log = file_error.get(n) or res.tail(10)  # in a batch, the tail may belong to another design
+        out.append(SimOutcome(n, simulator, passed, failed, first.get(n), res.returncode, log))
     return out
