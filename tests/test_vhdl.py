@@ -178,11 +178,12 @@ def test_testbench_reads_another_vectors_file_given_as_a_generic(tmp_path):
 
 
 @pytest.mark.ghdl
-def test_vhdl_93_strict_analyses_every_scheme(tmp_path):
-    """--std=93 (no relaxations) accepts the entities and testbenches of one width."""
+@pytest.mark.parametrize("std", ["93", "08"])
+def test_strict_vhdl_93_and_2008_analyse_every_scheme(tmp_path, std):
+    """--std=93 (no relaxations) and --std=08 accept the entities and testbenches of one width, no warning."""
     ds = [d for d in designs() if d.spec.width == 33]
     files = ghdl.stage(ds, tmp_path)
-    r = ghdl.run(ghdl.Command((ghdl.ghdl(), "-a", "--std=93", *files), str(tmp_path)))
+    r = ghdl.run(ghdl.Command((ghdl.ghdl(), "-a", f"--std={std}", *files), str(tmp_path)))
     assert r.ok, r.tail()
     assert "warning" not in (r.stdout + r.stderr), r.tail()
 
