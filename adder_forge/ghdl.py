@@ -79,10 +79,11 @@ def simulate(designs, workdir: Path, timeout: float = 3600) -> list[SimOutcome]:
 
 
 def synthesize(name: str, workdir: Path, timeout: float = 3600) -> str:
-    """The Verilog netlist GHDL's synthesis makes of an analysed entity, its module named ``name`` again
-    (GHDL folds VHDL names, which are case-insensitive, to lower case)."""
+    """The Verilog netlist GHDL's synthesis makes of an analysed entity, its module named exactly ``name``
+    (GHDL 2.0 keeps the case of the entity declaration; VHDL names are case-insensitive, so any case is
+    taken and put back as the spec has it)."""
     r = run(synth_command(name, workdir, timeout))
-    folded = re.compile(rf"^module {re.escape(name.lower())}\b", re.M)
-    if not r.ok or not folded.search(r.stdout):
+    module = re.compile(rf"^module {re.escape(name)}\b", re.M | re.I)
+    if not r.ok or not module.search(r.stdout):
         raise ToolError(f"ghdl synth could not synthesize {name}", r.tail(15))
-    return folded.sub(f"module {name}", r.stdout, count=1)
+    return module.sub(f"module {name}", r.stdout, count=1)

@@ -300,7 +300,8 @@ def test_vhdl_text_matches_golden(name, width, scheme, keys):
 def _every_op(net):
     """The same adder rewritten so that every gate op appears, constants among the operands: XOR2 as
     XNOR2 of an inverted operand, AND2 and OR2 through a constant 1 / 0, AO21 and MUX2 kept (no scheme
-    emits NOT or XNOR2, or a constant a gate reads)."""
+    emits NOT or XNOR2, or a constant a gate reads). The new wires get names that are legal in Verilog but
+    not in VHDL: doubled and leading underscores, reserved words, and names equal to another ignoring case."""
     from dataclasses import replace as dc_replace
 
     from adder_forge.ir import Node, Port
@@ -316,12 +317,12 @@ def _every_op(net):
     for i, n in enumerate(net.nodes):
         args = [new[a] for a in n.args]
         if n.op == "XOR2":
-            inv = add("NOT", [args[1]], f"{n.name}_inv")
+            inv = add("NOT", [args[1]], f"_{n.name}__inv")
             new[i] = add("XNOR2", [args[0], inv], n.name)
         elif n.op in ("AND2", "OR2"):
             if one is None:
-                one, zero = add("CONST", (), "k_one", 1), add("CONST", (), "k_zero", 0)
-            t = add(n.op, args, f"{n.name}_raw")
+                one, zero = add("CONST", (), "signal", 1), add("CONST", (), "in", 0)
+            t = add(n.op, args, n.name.upper())  # G0 beside g0
             new[i] = add(n.op, [t, one if n.op == "AND2" else zero], n.name)
         else:
             new[i] = add(n.op, args, n.name, n.param)
@@ -334,7 +335,7 @@ def _every_op(net):
 def test_every_cell_op_passes_in_ghdl_and_its_synthesis_is_proven(tmp_path):
     from adder_forge.ir import check_well_formed
 
-    spec = make_spec("vh_allops12", 12, "carry-select", block=4)
+    spec = make_spec("VhAllOps12", 12, "carry-select", block=4)  # GHDL folds it to lower case
     net = _every_op(design(spec).net)
     check_well_formed(net)
     assert {n.op for n in net.nodes} >= {"NOT", "AND2", "OR2", "XNOR2", "AO21", "MUX2", "CONST"}
@@ -342,6 +343,8 @@ def test_every_cell_op_passes_in_ghdl_and_its_synthesis_is_proven(tmp_path):
     _stage_one(d, tmp_path)
     [o] = ghdl.outcomes([d], "ghdl", _run(d, tmp_path))
     assert o.ok and o.exit_status == 0 and o.passed == d.testbench.count, (o.first, o.log)
-    text = (tmp_path / "vh_allops12.vhd").read_text()
+    text = (tmp_path / "VhAllOps12.vhd").read_text()
     assert "xnor" in text and "not " in text and "std_logic'('1')" in text
+    assert "signal G0 : std_logic;" in text and "signal g0_2 : std_logic;" in text  # raw G0 comes first
+    assert "signal p0_inv : std_logic;" in text
     assert prove(d.net, ghdl.synthesize(d.spec.name, tmp_path)).ok
