@@ -17,7 +17,8 @@ STD = "93c"  # what GHDL is asked to check the files against (VHDL-93 with commo
 ARCHITECTURE = "netlist"
 
 # VHDL-93 reserved words, with those VHDL-2002/2008 (and PSL inside 2008) added, so that a file stays
-# legal under a newer standard (IEEE Std 1076-1993 and 1076-2008, section 15.10 / 15.10 of each).
+# legal under a newer standard: the reserved-word lists of IEEE Std 1076-1993 and 1076-2008, written from
+# memory; tests analyse the emitted files under GHDL's --std=93 and --std=08.
 RESERVED = frozenset("""
 abs access after alias all and architecture array assert attribute begin block body buffer bus case
 component configuration constant disconnect downto else elsif end entity exit file for function generate
