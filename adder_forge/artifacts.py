@@ -29,15 +29,18 @@ class Design:
     verilog: str
     testbench: Testbench
     plan: str  # how the testbench's vectors were chosen
+    hdl: tuple[str, ...] = ("verilog",)  # the forms files() writes: verilog, vhdl
 
     def files(self) -> dict[str, str]:
         n = self.spec.name
-        return {
-            f"{n}.v": self.verilog,
-            f"{n}_tb.v": self.testbench.verilog,
-            f"{n}_vectors.hex": self.testbench.vectors_hex,
-            f"{n}.json": to_json(self.report()),
-        }
+        out = {f"{n}.v": self.verilog, f"{n}_tb.v": self.testbench.verilog} if "verilog" in self.hdl else {}
+        if "vhdl" in self.hdl:
+            from .vhdl import vhdl_files
+
+            out.update(vhdl_files(self))
+        out[f"{n}_vectors.hex"] = self.testbench.vectors_hex
+        out[f"{n}.json"] = to_json(self.report())
+        return out
 
     def report(self, extra: dict | None = None) -> dict:
         tb = {"testbench": {"vectors": self.testbench.count, "plan": self.plan}}

@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 import os
 import sys
+from dataclasses import replace
 from pathlib import Path
 
 from . import __version__
@@ -35,6 +36,8 @@ def _parser() -> argparse.ArgumentParser:
     b.add_argument("--seed", type=int, default=1, metavar="S")
     b.add_argument("--force", action="store_true",
                    help="replace output files that adder_forge did not write or that were edited since")
+    b.add_argument("--hdl", default="verilog", metavar="FORMS",
+                   help="comma list of verilog, vhdl: the forms of the adder and testbench to write (default verilog)")
 
     v = sub.add_parser("verify", help="check that each spec's adder adds: built-in, simulators, formal")
     v.add_argument("specs", nargs="+", metavar="SPEC")
@@ -142,11 +145,25 @@ def cmd_build(args) -> int:
 
     if args.tb_vectors < 0:
         raise UsageError(f"--tb-vectors must be 0 or more, got {args.tb_vectors}", "build", "--tb-vectors")
-    designs = _designs(_load_all(args.specs), args.tb_vectors, args.seed, _progress())
+    hdl = _hdl(args.hdl)
+    designs = [replace(d, hdl=hdl) for d in _designs(_load_all(args.specs), args.tb_vectors, args.seed, _progress())]
     written = write_folders(Path(args.out), [output_folder(d) for d in designs], force=args.force)
     for d, w in zip(designs, written):
         print(_build_line(d, w.path) + "".join(f"; {n}" for n in w.notes))
     return EXIT_OK
+
+
+def _hdl(value: str) -> tuple[str, ...]:
+    valid = ("verilog", "vhdl")
+    forms = [f.strip() for f in value.split(",") if f.strip()]
+    for f in forms:
+        if f not in valid:
+            from .registry import suggest
+
+            raise UsageError(f"unknown HDL '{f}'" + suggest(f, valid), "build", "--hdl")
+    if not forms:
+        raise UsageError("--hdl needs at least one of verilog, vhdl", "build", "--hdl")
+    return tuple(dict.fromkeys(forms))
 
 
 def _build_line(d, path) -> str:
