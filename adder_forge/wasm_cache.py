@@ -53,7 +53,8 @@ def _user_cache(app: str) -> Path:
 
 def cache_dir() -> Path:
     """Our YOWASP_CACHE_DIR: a module compiled by one wasmtime is not loadable by another."""
-    return _user_cache("adder_forge") / "yowasp" / f"wasmtime-{_version('wasmtime')}-runtime-{_version('yowasp-runtime')}"
+    versions = f"wasmtime-{_version('wasmtime')}-runtime-{_version('yowasp-runtime')}"
+    return _user_cache("adder_forge") / "yowasp" / versions
 
 
 def _wasm_file(package: str, filename: str) -> Path | None:

@@ -4,7 +4,6 @@ exited 0."""
 from __future__ import annotations
 
 import runpy
-import sys
 from pathlib import Path
 
 from adder_forge.formal import Proof

@@ -33,7 +33,8 @@ def test_exit_status_names_a_signal():
 
 
 def test_a_killed_tool_says_so_in_its_tail():
-    r = run(Command((sys.executable, "-c", "import os, signal; print('working'); os.kill(os.getpid(), signal.SIGKILL)")))
+    suicide = "import os, signal; print('working'); os.kill(os.getpid(), signal.SIGKILL)"
+    r = run(Command((sys.executable, "-c", suicide)))
     assert r.returncode == -signal.SIGKILL and not r.ok
     assert r.tail().splitlines()[-1].endswith("killed by signal 9 (SIGKILL)]")
     ok = Result(r.command, 0, "fine\n", "", 0.0)
