@@ -68,6 +68,10 @@ def _parser() -> argparse.ArgumentParser:
 
 def main(argv: list[str] | None = None) -> int:
     args = _parser().parse_args(argv)
+    from .tools import set_listener
+
+    # A tool's own word for the user (the first WebAssembly compile takes a minute) reaches stderr.
+    set_listener(lambda message: print(f"... {message}", file=sys.stderr, flush=True))
     try:
         for option in ("out", "keep"):
             if getattr(args, option, None) is not None:

@@ -95,7 +95,7 @@ def yosys(workdir: Path, script: str, files: dict[str, str], what: str, timeout:
 def _log_tail(log: Path, r: Result, lines: int = 8) -> str:
     text = log.read_text(encoding="utf-8", errors="replace") if log.exists() else ""
     text = (text + "\n" + r.stdout + "\n" + r.stderr).strip().splitlines()
-    return "\n".join(text[-lines:])
+    return "\n".join(text[-lines:] + [r.status])  # a tool killed by a signal leaves no message of its own
 
 
 def read_stat(path: Path, module: str) -> dict:
