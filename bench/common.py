@@ -19,7 +19,7 @@ PREFIX_NETWORKS = ("kogge-stone", "brent-kung", "sklansky", "han-carlson", "ladn
 def cases(width: int) -> list[tuple[str, str, dict]]:
     """(label, scheme, options) for every registered scheme that accepts ``width``; the prefix scheme once per
     classic network."""
-    from adder_forge.registry import schemes
+    from adder_forge.spec.registry import schemes
 
     out = []
     for name, sch in schemes().items():

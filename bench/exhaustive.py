@@ -20,12 +20,12 @@ from dataclasses import replace
 
 from common import cases, save
 
-from adder_forge.builtin import check
-from adder_forge.ir import Node, Port
-from adder_forge.registry import elaborate
-from adder_forge.spec import make_spec
-from adder_forge.verify import BUILTIN_EXHAUSTIVE_LIMIT, FORCED_EXHAUSTIVE_LIMIT
-from adder_forge.vectors import make_plan
+from adder_forge.checks.builtin import check
+from adder_forge.ir.network import Node, Port
+from adder_forge.spec.registry import elaborate
+from adder_forge.spec.loader import make_spec
+from adder_forge.checks.verify import BUILTIN_EXHAUSTIVE_LIMIT, FORCED_EXHAUSTIVE_LIMIT
+from adder_forge.emit.vectors import make_plan
 
 TARGET_16 = 60.0  # seconds for 2^33 vectors
 QUICK_16 = ("prefix:kogge-stone", "ripple", "conditional-sum")

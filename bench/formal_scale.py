@@ -1,4 +1,4 @@
-"""Time `verify --formal` (adder_forge.formal.prove) for every scheme at the given widths.
+"""Time `verify --formal` (adder_forge.checks.formal.prove) for every scheme at the given widths.
 
     .venv/bin/python bench/formal_scale.py            # 64 and 256 bits
     .venv/bin/python bench/formal_scale.py 64 128
@@ -13,9 +13,9 @@ import sys
 
 from common import cases, save
 
-from adder_forge.artifacts import design
-from adder_forge.formal import prove
-from adder_forge.spec import make_spec
+from adder_forge.emit.design import design
+from adder_forge.checks.formal import prove
+from adder_forge.spec.loader import make_spec
 
 
 def main(widths: list[int]) -> int:

@@ -14,12 +14,12 @@ import sys
 
 from common import ROOT, best_of, cases, save
 
-from adder_forge.artifacts import design
-from adder_forge.metrics import metrics
-from adder_forge.registry import elaborate
-from adder_forge.report import header_lines
-from adder_forge.spec import make_spec
-from adder_forge.verilog import emit_module
+from adder_forge.emit.design import design
+from adder_forge.analysis.structure import metrics
+from adder_forge.spec.registry import elaborate
+from adder_forge.emit.summary import header_lines
+from adder_forge.spec.loader import make_spec
+from adder_forge.emit.verilog import emit_module
 
 WIDTHS = (64, 256, 1024, 4096)
 
@@ -34,9 +34,9 @@ def hwm():
         if line.startswith("VmHWM:"):
             return int(line.split()[1])
     return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
-from adder_forge.artifacts import design
-from adder_forge.spec import make_spec
-from adder_forge.registry import schemes
+from adder_forge.emit.design import design
+from adder_forge.spec.loader import make_spec
+from adder_forge.spec.registry import schemes
 schemes()
 base = hwm()
 t = time.perf_counter()

@@ -7,7 +7,7 @@
 For Kogge-Stone, Brent-Kung, Sklansky, ripple and behavioral (`+`): unit-gate delay, logical-effort delay,
 netlist gate equivalents as emitted, Yosys cells and depth (after Yosys's own optimisation, and ABC-mapped
 with the delay script), LUT6 count and depth,
-iCE40 UP5K LUTs, carry cells and Fmax. Every figure comes from adder_forge.measure.measure_specs, the
+iCE40 UP5K LUTs, carry cells and Fmax. Every figure comes from adder_forge.synth.measure.measure_specs, the
 function behind `adder-forge report`, so the docs show what the command prints. Takes a few minutes
 (nextpnr dominates).
 """
@@ -21,8 +21,8 @@ from pathlib import Path
 
 from common import ROOT, save
 
-from adder_forge.measure import measure_specs
-from adder_forge.spec import make_spec
+from adder_forge.synth.measure import measure_specs
+from adder_forge.spec.loader import make_spec
 
 ROWS = [
     ("`+` (behavioral)", "behavioral", {}),
@@ -182,7 +182,7 @@ def write_doc(results: list[dict], widths: list[int], seconds: float) -> None:
     text = f"""# Measurements: estimates and synthesis figures
 
 Produced by `.venv/bin/python bench/measure_table.py` ({seconds / 60:.0f} min on a shared 2-core machine) through
-`adder_forge.measure.measure_specs`, the code behind `adder-forge report SPEC --synth generic,lut6,ice40`.
+`adder_forge.synth.measure.measure_specs`, the code behind `adder-forge report SPEC --synth generic,lut6,ice40`.
 Every adder here has a carry-in and a carry-out. Figures are estimates or single tool runs, not sign-off
 timing.
 

@@ -24,12 +24,12 @@ from pathlib import Path
 
 from common import best_of, save
 
-from adder_forge.artifacts import design
-from adder_forge.builtin import check, default_workers
-from adder_forge.sim import commands, outcomes, stage
-from adder_forge.spec import make_spec
-from adder_forge.tools import run
-from adder_forge.vectors import make_plan
+from adder_forge.emit.design import design
+from adder_forge.checks.builtin import check, default_workers
+from adder_forge.checks.simulators import commands, outcomes, stage
+from adder_forge.spec.loader import make_spec
+from adder_forge.base.tools import run
+from adder_forge.emit.vectors import make_plan
 
 SEED = 1
 

@@ -3,7 +3,7 @@ from pathlib import Path
 
 import pytest
 
-from adder_forge.spec import make_spec
+from adder_forge.spec.loader import make_spec
 
 GOLDEN = Path(__file__).parent / "golden"
 REGEN = os.environ.get("ADDER_FORGE_REGEN_GOLDEN") == "1"  # set to rewrite golden files after a reviewed change

@@ -2,7 +2,7 @@
 adder widths 1, 2, 3, 5, 8, 13, 16, 31, 32, 33, 64, 100 and 128, the carry-in/carry-out combinations taken
 in turn across the widths, plus Ling and sparse-tree variants at a few widths."""
 
-from adder_forge.prefix_networks import NETWORKS, param_levels
+from adder_forge.schemes.prefix_networks import NETWORKS, param_levels
 
 WIDTHS = (1, 2, 3, 5, 8, 13, 16, 31, 32, 33, 64, 100, 128)
 FLAGS = ((True, True), (False, True), (True, False), (False, False))

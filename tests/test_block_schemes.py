@@ -7,12 +7,12 @@ import math
 
 import pytest
 
-from adder_forge.builtin import check
-from adder_forge.ir import check_well_formed
-from adder_forge.metrics import metrics
-from adder_forge.registry import elaborate
-from adder_forge.spec import make_spec
-from adder_forge.vectors import make_plan
+from adder_forge.checks.builtin import check
+from adder_forge.ir.network import check_well_formed
+from adder_forge.analysis.structure import metrics
+from adder_forge.spec.registry import elaborate
+from adder_forge.spec.loader import make_spec
+from adder_forge.emit.vectors import make_plan
 
 WIDTHS = (1, 2, 3, 7, 8, 16, 33, 64, 128)
 EXHAUSTIVE = 1 << 17  # every vector up to 8 bits with carry-in
@@ -62,7 +62,7 @@ def test_the_check_would_catch_a_wrong_carry(scheme):
     """Swap one carry-chain cell for an OR of its inputs: the same built-in check must fail."""
     from dataclasses import replace
 
-    from adder_forge.ir import Node
+    from adder_forge.ir.network import Node
 
     net = elaborate(make_spec("blk", 16, scheme, block=3))
     k = next(i for i, n in enumerate(net.nodes) if n.op == "AO21" and n.role in ("carry", "select"))

@@ -9,11 +9,11 @@ import itertools
 
 import pytest
 
-from adder_forge.blocksizes import resolve, select_auto, select_carry_levels, skip_auto, skip_delay
-from adder_forge.errors import SpecError
-from adder_forge.metrics import depth
-from adder_forge.registry import elaborate
-from adder_forge.spec import make_spec, parse_spec
+from adder_forge.schemes.blocksizes import resolve, select_auto, select_carry_levels, skip_auto, skip_delay
+from adder_forge.base.errors import SpecError
+from adder_forge.analysis.structure import depth
+from adder_forge.spec.registry import elaborate
+from adder_forge.spec.loader import make_spec, parse_spec
 
 BLOCK_SCHEMES = ("carry-skip", "carry-select", "conditional-sum", "block-lookahead")
 

@@ -12,15 +12,15 @@ import random
 import numpy as np
 import pytest
 
-from adder_forge.blocksizes import resolve, skip_auto, skip_delay
-from adder_forge.cells import levels_of
-from adder_forge.evaluate import Evaluator
-from adder_forge.ir import Port
-from adder_forge.metrics import gate_levels, metrics
-from adder_forge.registry import elaborate
-from adder_forge.skip_timing import sensitizable_levels
-from adder_forge.spec import make_spec
-from adder_forge.vectors import exhaustive_chunks, to_planes
+from adder_forge.schemes.blocksizes import resolve, skip_auto, skip_delay
+from adder_forge.ir.cells import levels_of
+from adder_forge.checks.evaluate import Evaluator
+from adder_forge.ir.network import Port
+from adder_forge.analysis.structure import gate_levels, metrics
+from adder_forge.spec.registry import elaborate
+from adder_forge.analysis.skip_timing import sensitizable_levels
+from adder_forge.spec.loader import make_spec
+from adder_forge.emit.vectors import exhaustive_chunks, to_planes
 
 OPS = {
     "NOT": lambda x: ~x[0],
@@ -183,7 +183,7 @@ def test_no_bypass_no_note():
 
 
 def _unit_gate(op, nargs):
-    from adder_forge.delay import UNIT_GATE
+    from adder_forge.analysis.delay import UNIT_GATE
 
     return UNIT_GATE[op].delay
 
@@ -192,7 +192,7 @@ def _unit_gate(op, nargs):
 def test_skip_aware_unit_gate_delay_matches_a_transport_simulation(width, block, exhaustive):
     """The report's unit_gate_delay_skip_aware: the same pass with the unit-gate model's delays (XOR 2),
     checked by simulating real transitions with those delays; never later than it, below the structural."""
-    from adder_forge.delay import estimates
+    from adder_forge.analysis.delay import estimates
 
     net = elaborate(make_spec("sk", width, "carry-skip", carry_in=True, block=block))
     est = estimates(net)

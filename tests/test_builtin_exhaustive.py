@@ -11,16 +11,16 @@ import weakref
 import numpy as np
 import pytest
 
-from adder_forge import builtin
-from adder_forge.builder import Builder
-from adder_forge.builtin import check, check_set
+from adder_forge.checks import builtin
+from adder_forge.ir.builder import Builder
+from adder_forge.checks.builtin import check, check_set
 from adder_forge.cli import main
-from adder_forge.evaluate import Evaluator
-from adder_forge.passes import break_gate, gate_indices
-from adder_forge.registry import elaborate
-from adder_forge.spec import make_spec
-from adder_forge.verify import BUILTIN_EXHAUSTIVE_LIMIT, builtin_plan, verify
-from adder_forge.vectors import BlockScratch, ExhaustiveBlocks, Plan, exhaustive_chunks, make_plan, space_bits
+from adder_forge.checks.evaluate import Evaluator
+from adder_forge.ir.passes import break_gate, gate_indices
+from adder_forge.spec.registry import elaborate
+from adder_forge.spec.loader import make_spec
+from adder_forge.checks.verify import BUILTIN_EXHAUSTIVE_LIMIT, builtin_plan, verify
+from adder_forge.emit.vectors import BlockScratch, ExhaustiveBlocks, Plan, exhaustive_chunks, make_plan, space_bits
 
 
 def one_minterm_wrong(width: int, carry_in: bool, carry_out: bool, a0: int, b0: int, c0: int, bit: int):
@@ -151,7 +151,7 @@ def test_streamed_random_check_gives_the_materialised_result(monkeypatch):
     monkeypatch.setattr(builtin, "PIECE", 1 << 10)
     plan = make_plan(40, True, 0, 30000, 5)
     net = elaborate(make_spec("r40", 40, "ripple", carry_in=True, carry_out=True))
-    from adder_forge.vectors import VectorSet
+    from adder_forge.emit.vectors import VectorSet
 
     sets = list(plan.chunks(1 << 12))
     whole = VectorSet(40, np.concatenate([s.a for s in sets]), np.concatenate([s.b for s in sets]),
@@ -199,7 +199,7 @@ def test_streamed_check_holds_a_bounded_number_of_chunks(monkeypatch):
 def test_verify_without_a_simulator_draws_no_testbench_vectors(tmp_path, capsys, monkeypatch):
     """`verify --vectors N` with the built-in check only: the N vectors are checked, never written out
     as a testbench (that took 2.8 GB for 20,000,000 at 32 bits)."""
-    import adder_forge.artifacts as artifacts
+    import adder_forge.emit.design as artifacts
 
     seen = []
     real = artifacts.emit_testbench
@@ -230,7 +230,7 @@ def test_verify_exhaustive_flag_at_a_small_width(tmp_path, capsys):
 def test_exhaustive_outcome_through_verify_reports_the_failing_vector():
     spec = make_spec("w12", 12, "ripple", carry_in=True, carry_out=True)
     net = one_minterm_wrong(12, True, True, 0x123, 0xFED, 0, 12)
-    from adder_forge.artifacts import design
+    from adder_forge.emit.design import design
 
     (o,) = verify([design(spec, net=net, tb_random=0, tb_exhaustive_limit=0)], [], False, 100, 1).outcomes
     assert not o.ok and o.failed == 1 and o.vectors == 1 << 25
@@ -259,7 +259,7 @@ def test_sixteen_bits_with_carry_in_is_the_largest_exhaustive_plan():
 @pytest.mark.slow
 def test_sixteen_bits_with_carry_in_exhaustive_through_the_cli(tmp_path, capsys, monkeypatch):
     """2^33 vectors through `verify --exhaustive`, with one wrong minterm near the end; 15-40 s on two cores."""
-    import adder_forge.artifacts as artifacts
+    import adder_forge.emit.design as artifacts
 
     bad = one_minterm_wrong(16, True, True, 0xFFFE, 0x8001, 1, 16)
     real = artifacts.elaborate

@@ -3,16 +3,16 @@
 
 import pytest
 
-from adder_forge.artifacts import design
-from adder_forge.builtin import check
+from adder_forge.emit.design import design
+from adder_forge.checks.builtin import check
 from adder_forge.cli import main
-from adder_forge.formal import prove
-from adder_forge.passes import break_gate, gate_indices
-from adder_forge.registry import elaborate
-from adder_forge.sim import simulate
-from adder_forge.spec import make_spec
-from adder_forge.tools import Command, find, run
-from adder_forge.vectors import make_plan
+from adder_forge.checks.formal import prove
+from adder_forge.ir.passes import break_gate, gate_indices
+from adder_forge.spec.registry import elaborate
+from adder_forge.checks.simulators import simulate
+from adder_forge.spec.loader import make_spec
+from adder_forge.base.tools import Command, find, run
+from adder_forge.emit.vectors import make_plan
 
 
 def broken(name="brk8", width=8, scheme="ripple", role="carry"):
@@ -80,9 +80,9 @@ def test_formal_finds_a_counterexample():
     m = p.counterexample
     assert m is not None and m.expected == m.a + m.b + m.cin and m.got != m.expected
     # the counterexample really is one: the broken IR disagrees with integer addition there
-    from adder_forge.vectors import from_triples
-    from adder_forge.builtin import check_set
-    from adder_forge.evaluate import Evaluator
+    from adder_forge.emit.vectors import from_triples
+    from adder_forge.checks.builtin import check_set
+    from adder_forge.checks.evaluate import Evaluator
 
     failed, _ = check_set(Evaluator(net), from_triples(8, [(m.a, m.b, m.cin)]))
     assert failed == 1
@@ -91,7 +91,7 @@ def test_formal_finds_a_counterexample():
 @pytest.mark.cocotb
 @pytest.mark.parametrize("simulator", ["icarus", "verilator"])
 def test_cocotb_test_fails(simulator, tmp_path):
-    from adder_forge.cocotb_check import run_cocotb
+    from adder_forge.checks.cocotb_check import run_cocotb
 
     spec, net = broken()
     o = run_cocotb(design(spec, net=net), simulator, tmp_path, random_count=200)
@@ -102,7 +102,7 @@ def test_cocotb_test_fails(simulator, tmp_path):
 @pytest.mark.formal
 def test_verify_command_exits_1_with_first_failing_vector(tmp_path, capsys, monkeypatch):
     """Through the CLI: a spec whose elaboration is broken on purpose."""
-    import adder_forge.artifacts as art
+    import adder_forge.emit.design as art
 
     spec_file = tmp_path / "brk8.yaml"
     spec_file.write_text("name: brk8\nwidth: 8\nscheme: ripple\n")
@@ -161,9 +161,9 @@ def _parse_mismatch(text: str):
 @pytest.mark.parametrize("simulator", ["icarus", "verilator"])
 def test_simulators_catch_mutants_across_schemes(simulator, tmp_path):
     """One batch: every broken design fails with a genuine mismatch, its intact twin passes."""
-    from adder_forge.builtin import check_set
-    from adder_forge.evaluate import Evaluator
-    from adder_forge.vectors import from_triples
+    from adder_forge.checks.builtin import check_set
+    from adder_forge.checks.evaluate import Evaluator
+    from adder_forge.emit.vectors import from_triples
 
     broken_designs, good = [], []
     for keys, *how in MUTANTS:
@@ -191,7 +191,7 @@ def test_simulators_catch_mutants_across_schemes(simulator, tmp_path):
 def test_cocotb_catches_mutants_across_schemes(simulator, tmp_path):
     """Three mutants of three schemes, one cocotb build each: measured 54 s (Icarus) and 98 s (Verilator)
     in all under heavy load (one build alone: 15 s and 27 s)."""
-    from adder_forge.cocotb_check import run_cocotb
+    from adder_forge.checks.cocotb_check import run_cocotb
 
     for keys, *how in (MUTANTS[1], MUTANTS[2], MUTANTS[4]):
         spec, _, net = mutant(keys, *how)

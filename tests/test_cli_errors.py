@@ -61,7 +61,7 @@ def test_missing_file(tmp_path, capsys):
 
 
 def test_key_of_another_scheme(tmp_path, capsys):
-    from adder_forge.registry import schemes
+    from adder_forge.spec.registry import schemes
 
     owners = sorted(s.name for s in schemes().values() if any(o.key == "block" for o in s.options))
     if not owners:
@@ -163,7 +163,7 @@ def test_overlong_name_rejected(tmp_path, capsys):
     ("carry_in", "False", False),
 ])
 def test_yaml12_spellings_accepted(key, value, expect):
-    from adder_forge.spec import parse_spec
+    from adder_forge.spec.loader import parse_spec
 
     s = parse_spec(GOOD.replace("width: 8", f"width: 8\n{key}: {value}") if key != "width"
                    else GOOD.replace("width: 8", f"width: {value}"), "s.yaml")
@@ -271,7 +271,7 @@ def test_block_wider_than_width_is_noted(tmp_path, capsys, scheme):
 
 def test_longest_name_still_gets_its_baseline(tmp_path, capsys):
     # The report's `+` baseline is NAME_plus: a name at the limit must not fail there.
-    from adder_forge.spec import MAX_NAME, make_spec
+    from adder_forge.spec.loader import MAX_NAME, make_spec
 
     assert make_spec("a" * MAX_NAME + "_plus", 8, "behavioral").name.endswith("_plus")
     spec = tmp_path / "long.yaml"

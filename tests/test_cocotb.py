@@ -3,9 +3,9 @@ compares them with Python integer addition."""
 
 import pytest
 
-from adder_forge.artifacts import design
-from adder_forge.cocotb_check import run_cocotb
-from adder_forge.spec import make_spec
+from adder_forge.emit.design import design
+from adder_forge.checks.cocotb_check import run_cocotb
+from adder_forge.spec.loader import make_spec
 
 CASES = [
     dict(name="cc_rip7", width=7, scheme="ripple", carry_in=False),  # exhaustive: 2^14 > limit, so 1000 random + directed

@@ -7,10 +7,10 @@ import math
 
 import pytest
 
-from adder_forge.builder import Builder
-from adder_forge.delay import EFFORT, estimates, loads, logical_effort, unit_gate
-from adder_forge.registry import elaborate, schemes
-from adder_forge.spec import make_spec
+from adder_forge.ir.builder import Builder
+from adder_forge.analysis.delay import EFFORT, estimates, loads, logical_effort, unit_gate
+from adder_forge.spec.registry import elaborate, schemes
+from adder_forge.spec.loader import make_spec
 
 
 def net_of(width, scheme, **kw):

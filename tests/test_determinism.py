@@ -8,7 +8,7 @@ from pathlib import Path
 
 import yaml
 
-from adder_forge.registry import schemes
+from adder_forge.spec.registry import schemes
 
 ROOT = Path(__file__).resolve().parent.parent
 EXAMPLES = sorted((ROOT / "specs").glob("*.yaml"))

@@ -8,11 +8,11 @@ import zipfile
 import pytest
 
 from adder_forge import __version__
-from adder_forge.artifacts import design
+from adder_forge.emit.design import design
 from adder_forge.cli import main
-from adder_forge.ir import dump
-from adder_forge.registry import elaborate
-from adder_forge.spec import make_spec
+from adder_forge.ir.network import dump
+from adder_forge.spec.registry import elaborate
+from adder_forge.spec.loader import make_spec
 from conftest import golden
 
 

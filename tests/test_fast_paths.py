@@ -5,11 +5,11 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from adder_forge import vectors as v
-from adder_forge.builder import Builder
-from adder_forge.builtin import check
-from adder_forge.registry import elaborate
-from adder_forge.spec import make_spec
+from adder_forge.emit import vectors as v
+from adder_forge.ir.builder import Builder
+from adder_forge.checks.builtin import check
+from adder_forge.spec.registry import elaborate
+from adder_forge.spec.loader import make_spec
 
 WIDTHS = [1, 5, 12, 31, 32, 33, 62, 63, 64, 65, 96, 128, 200]
 
@@ -100,7 +100,7 @@ def test_random_check_of_a_wide_adder_passes_and_a_broken_one_fails():
 
 
 def _kernel_outputs(net, vs):
-    from adder_forge.evaluate import Kernel, schedule
+    from adder_forge.checks.evaluate import Kernel, schedule
 
     inputs = v.input_planes(vs, net.port("cin") is not None)
     k = Kernel(schedule(net), next(iter(inputs.values())).shape[1])
@@ -112,7 +112,7 @@ def _kernel_outputs(net, vs):
 
 
 def _scheme_cases():
-    from adder_forge.registry import schemes
+    from adder_forge.spec.registry import schemes
 
     for name, sch in schemes().items():
         if name == "prefix":
@@ -128,8 +128,8 @@ def _scheme_cases():
 def test_compiled_kernel_computes_what_the_evaluator_computes(scheme, opts, width, carry_in, carry_out):
     """The slot-reusing kernel of the exhaustive path gives the plain evaluator's planes, net for net of
     every output, on every scheme (the behavioural one's ADD cell included)."""
-    from adder_forge.evaluate import Evaluator
-    from adder_forge.registry import schemes
+    from adder_forge.checks.evaluate import Evaluator
+    from adder_forge.spec.registry import schemes
 
     if width > schemes()[scheme].max_width:
         pytest.skip("width beyond the scheme's range")
@@ -144,7 +144,7 @@ def test_compiled_kernel_computes_what_the_evaluator_computes(scheme, opts, widt
 
 def test_compiled_kernel_on_odd_networks():
     """Outputs that are inputs or constants, dead gates, an output read twice, a gate reading one net twice."""
-    from adder_forge.evaluate import Evaluator
+    from adder_forge.checks.evaluate import Evaluator
 
     b = Builder("odd")
     a = b.input("a", 3)

@@ -7,10 +7,10 @@ import json
 
 import pytest
 
-from adder_forge.artifacts import design
+from adder_forge.emit.design import design
 from adder_forge.cli import main
-from adder_forge.measure import format_table, measure_specs
-from adder_forge.spec import make_spec
+from adder_forge.synth.measure import format_table, measure_specs
+from adder_forge.spec.loader import make_spec
 
 LEFT_TO_SYNTHESIS = "n/a: left to synthesis"  # the wording users see; metrics.LEFT_TO_SYNTHESIS
 

@@ -6,7 +6,7 @@ from __future__ import annotations
 import runpy
 from pathlib import Path
 
-from adder_forge.formal import Proof
+from adder_forge.checks.formal import Proof
 
 BENCH = Path(__file__).resolve().parents[1] / "bench"
 

@@ -19,10 +19,11 @@ from pathlib import Path
 
 import pytest
 
-from adder_forge import formal, wasm_cache
-from adder_forge.artifacts import design
-from adder_forge.spec import make_spec
-from adder_forge.tools import Command, Result, exit_status, run
+from adder_forge.checks import formal
+from adder_forge.base import wasm_cache
+from adder_forge.emit.design import design
+from adder_forge.spec.loader import make_spec
+from adder_forge.base.tools import Command, Result, exit_status, run
 
 
 def test_exit_status_names_a_signal():
@@ -99,8 +100,8 @@ def test_four_processes_on_a_cold_cache_compile_once(tmp_path, skip64):
     one compiles, the others wait for it; all four prove, and one compiled module is left."""
     env = dict(os.environ, XDG_CACHE_HOME=str(tmp_path / "cache"))
     env.pop("YOWASP_CACHE_DIR", None)
-    code = ("import sys; from adder_forge import formal; from adder_forge.artifacts import design; "
-            "from adder_forge.spec import make_spec; "
+    code = ("import sys; from adder_forge.checks import formal; from adder_forge.emit.design import design; "
+            "from adder_forge.spec.loader import make_spec; "
             "d = design(make_spec('cold16', 16, 'carry-skip'), tb_random=0); "
             "p = formal.prove(d.net, d.verilog, note=lambda m: print(m, file=sys.stderr, flush=True)); "
             "print('proved' if p.ok else 'FAILED')")

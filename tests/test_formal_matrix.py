@@ -16,11 +16,11 @@ from __future__ import annotations
 
 import pytest
 
-from adder_forge.artifacts import design
-from adder_forge.errors import SpecError
-from adder_forge.formal import prove_all
-from adder_forge.prefix_networks import NETWORKS, param_levels
-from adder_forge.registry import schemes
+from adder_forge.emit.design import design
+from adder_forge.base.errors import SpecError
+from adder_forge.checks.formal import prove_all
+from adder_forge.schemes.prefix_networks import NETWORKS, param_levels
+from adder_forge.spec.registry import schemes
 
 pytestmark = pytest.mark.formal
 
@@ -70,7 +70,7 @@ def variants() -> list[tuple[str, str, dict]]:
 
 
 def make(label: str, scheme: str, opts: dict, width: int, cin: bool, cout: bool):
-    from adder_forge.spec import make_spec
+    from adder_forge.spec.loader import make_spec
 
     opts = dict(opts)
     net = opts.get("prefix")
@@ -130,7 +130,7 @@ def test_what_the_matrix_skips():
         for w in FAST_WIDTHS + SLOW_WIDTHS:
             for cin, cout in PORTS:
                 try:
-                    from adder_forge.spec import make_spec
+                    from adder_forge.spec.loader import make_spec
 
                     o = dict(opts)
                     if o.get("prefix") and NETWORKS[o["prefix"]].param:

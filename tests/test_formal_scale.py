@@ -5,12 +5,12 @@ from __future__ import annotations
 
 import pytest
 
-from adder_forge.artifacts import design
-from adder_forge.builder import Builder
-from adder_forge.formal import prove
-from adder_forge.registry import schemes
-from adder_forge.spec import make_spec
-from adder_forge.verilog import emit_module
+from adder_forge.emit.design import design
+from adder_forge.ir.builder import Builder
+from adder_forge.checks.formal import prove
+from adder_forge.spec.registry import schemes
+from adder_forge.spec.loader import make_spec
+from adder_forge.emit.verilog import emit_module
 
 CASES = {
     "behavioral": {},

@@ -2,11 +2,11 @@
 
 import pytest
 
-from adder_forge.artifacts import design
-from adder_forge.formal import prove
-from adder_forge.passes import break_gate, gate_indices
-from adder_forge.registry import elaborate
-from adder_forge.spec import make_spec
+from adder_forge.emit.design import design
+from adder_forge.checks.formal import prove
+from adder_forge.ir.passes import break_gate, gate_indices
+from adder_forge.spec.registry import elaborate
+from adder_forge.spec.loader import make_spec
 
 
 @pytest.mark.formal

@@ -10,9 +10,9 @@ from __future__ import annotations
 
 import pytest
 
-from adder_forge import formal
-from adder_forge.artifacts import design
-from adder_forge.spec import make_spec
+from adder_forge.checks import formal
+from adder_forge.emit.design import design
+from adder_forge.spec.loader import make_spec
 
 pytestmark = pytest.mark.formal
 

@@ -26,10 +26,10 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from adder_forge import cli
-from adder_forge.errors import SpecError
-from adder_forge.keywords import RESERVED
-from adder_forge.registry import schemes
-from adder_forge.spec import load_spec
+from adder_forge.base.errors import SpecError
+from adder_forge.base.keywords import RESERVED
+from adder_forge.spec.registry import schemes
+from adder_forge.spec.loader import load_spec
 
 ROOT = Path(__file__).resolve().parent.parent
 EXAMPLES = [p.read_bytes() for p in sorted((ROOT / "specs").glob("*.yaml"))]

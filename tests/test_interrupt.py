@@ -16,7 +16,7 @@ from pathlib import Path
 import pytest
 
 from adder_forge.cli import main
-from adder_forge.outputs import STAGE_PREFIX
+from adder_forge.emit.outputs import STAGE_PREFIX
 
 SPEC = "name: {name}\nwidth: {width}\nscheme: ripple\n"
 
@@ -24,7 +24,7 @@ SPEC = "name: {name}\nwidth: {width}\nscheme: ripple\n"
 # announce itself on stdout and pause, so that the test can signal it at exactly that point.
 WRAPPER = r"""
 import os, shutil, signal, sys, time
-from adder_forge import outputs
+from adder_forge.emit import outputs
 from adder_forge.cli import main
 
 what, at = os.environ["KILL_IN"], int(os.environ["KILL_AT"])

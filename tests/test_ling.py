@@ -5,13 +5,13 @@ Python integer addition (c_i = bit i of a ^ b ^ (a + b + cin)), and the adders a
 import numpy as np
 import pytest
 
-from adder_forge.builtin import check
-from adder_forge.evaluate import Evaluator
-from adder_forge.ir import Port
-from adder_forge.metrics import metrics
-from adder_forge.registry import elaborate
-from adder_forge.spec import make_spec
-from adder_forge.vectors import exhaustive_chunks, make_plan, to_planes
+from adder_forge.checks.builtin import check
+from adder_forge.checks.evaluate import Evaluator
+from adder_forge.ir.network import Port
+from adder_forge.analysis.structure import metrics
+from adder_forge.spec.registry import elaborate
+from adder_forge.spec.loader import make_spec
+from adder_forge.emit.vectors import exhaustive_chunks, make_plan, to_planes
 
 
 def probe(net, nodes: dict[str, int], width: int, carry_in: bool):

@@ -5,9 +5,9 @@ import math
 
 import pytest
 
-from adder_forge.metrics import metrics
-from adder_forge.registry import elaborate
-from adder_forge.spec import make_spec
+from adder_forge.analysis.structure import metrics
+from adder_forge.spec.registry import elaborate
+from adder_forge.spec.loader import make_spec
 
 
 @pytest.mark.parametrize("n", [1, 2, 3, 4, 7, 8, 16, 33, 64])
@@ -35,8 +35,8 @@ def test_levels_grow_logarithmically_for_lookahead_and_linearly_for_ripple():
 
 
 def test_lookahead_width_limit_is_a_clear_error():
-    from adder_forge.errors import SpecError
-    from adder_forge.spec import parse_spec
+    from adder_forge.base.errors import SpecError
+    from adder_forge.spec.loader import parse_spec
 
     with pytest.raises(SpecError) as e:
         parse_spec("name: big\nwidth: 200\nscheme: lookahead\n", "big.yaml")

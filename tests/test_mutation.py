@@ -1,10 +1,10 @@
 """Mutation testing of the checks: one-change mutants of emitted Verilog against the testbench and the proof.
 
 For a sample of designs across every scheme (several prefix networks among them), each mutant is the
-emitted module with one change (adder_forge.mutate: a gate of another type, swapped operands, a wire stuck
+emitted module with one change (adder_forge.checks.mutate: a gate of another type, swapped operands, a wire stuck
 at 0 or 1, a wrong bit index). Every mutant goes through three engines that share no code with the
 generator: the emitted testbench in Icarus and in Verilator (exhaustive vectors at these widths, expected
-values by Python integer addition) and the Yosys SAT proof of ``adder_forge.formal.prove`` against
+values by Python integer addition) and the Yosys SAT proof of ``adder_forge.checks.formal.prove`` against
 Verilog's own `+`. A mutant is equivalent when the proof says equal, never by assumption; because the
 vectors are exhaustive, the testbench must then pass it, and must fail every other mutant: the three
 verdicts agree on every mutant, and the kill rate of each layer on the functionally different mutants is
@@ -19,11 +19,11 @@ from concurrent.futures import ThreadPoolExecutor
 
 import pytest
 
-from adder_forge.artifacts import design
-from adder_forge.formal import prove
-from adder_forge.mutate import OPERATORS, module_name, mutant_design, mutants, sample
-from adder_forge.sim import simulate
-from adder_forge.spec import make_spec
+from adder_forge.emit.design import design
+from adder_forge.checks.formal import prove
+from adder_forge.checks.mutate import OPERATORS, module_name, mutant_design, mutants, sample
+from adder_forge.checks.simulators import simulate
+from adder_forge.spec.loader import make_spec
 
 # (name, width, scheme, keys): widths 4-7 keep every testbench exhaustive and short (at most 2^15 vectors)
 DESIGNS = [
@@ -58,7 +58,7 @@ def mutant_designs():
 
 
 def test_every_scheme_is_sampled():
-    from adder_forge.registry import schemes
+    from adder_forge.spec.registry import schemes
 
     assert {s for _, _, s, _ in DESIGNS} == set(schemes())
     assert len({k.get("prefix") for _, _, s, k in DESIGNS if s == "prefix"}) >= 5

@@ -10,12 +10,12 @@ import os
 
 import pytest
 
-from adder_forge import outputs
+from adder_forge.emit import outputs
 from adder_forge.cli import main
-from adder_forge.errors import OutputConflict, OutputError
-from adder_forge.measure import measure_specs
-from adder_forge.outputs import MANIFEST, STAGE_PREFIX, Folder, write_folders
-from adder_forge.spec import load_spec
+from adder_forge.base.errors import OutputConflict, OutputError
+from adder_forge.synth.measure import measure_specs
+from adder_forge.emit.outputs import MANIFEST, STAGE_PREFIX, Folder, write_folders
+from adder_forge.spec.loader import load_spec
 
 SPEC = "name: {name}\nwidth: {width}\nscheme: ripple\n"
 BUILT = ("{n}.v", "{n}_tb.v", "{n}_vectors.hex", "{n}.json")
@@ -357,7 +357,7 @@ def test_a_folder_without_manifest_holding_the_same_bytes_is_taken_over(tmp_path
 
 def test_report_checks_every_json_before_any_synthesis(tmp_path, capsys, monkeypatch):
     """A hand-edited NAME.json of the second spec stops `report` before the first spec's flows run."""
-    from adder_forge import measure
+    from adder_forge.synth import measure
 
     specs = [spec_file(tmp_path, "one"), spec_file(tmp_path, "two")]
     out = tmp_path / "out"

@@ -4,17 +4,17 @@ dumps."""
 
 import pytest
 
-from adder_forge.builtin import check
-from adder_forge.errors import SpecError
-from adder_forge.ir import check_well_formed, dump
-from adder_forge.metrics import metrics
-from adder_forge.passes import break_gate, gate_indices
-from adder_forge.prefix_eval import complete_columns
-from adder_forge.prefix_networks import NETWORKS, build, levels_of
-from adder_forge.registry import elaborate
-from adder_forge.report import report
-from adder_forge.spec import make_spec, parse_spec
-from adder_forge.vectors import make_plan, space_bits
+from adder_forge.checks.builtin import check
+from adder_forge.base.errors import SpecError
+from adder_forge.ir.network import check_well_formed, dump
+from adder_forge.analysis.structure import metrics
+from adder_forge.ir.passes import break_gate, gate_indices
+from adder_forge.analysis.prefix_eval import complete_columns
+from adder_forge.schemes.prefix_networks import NETWORKS, build, levels_of
+from adder_forge.spec.registry import elaborate
+from adder_forge.emit.summary import report
+from adder_forge.spec.loader import make_spec, parse_spec
+from adder_forge.emit.vectors import make_plan, space_bits
 from conftest import golden
 from matrix_prefix import CONFIGS, WIDTHS, params
 

@@ -15,11 +15,11 @@ import random
 
 import pytest
 
-from adder_forge.prefix_eval import PrefixError, check, complete_columns, depth, spans, stimulus
-from adder_forge.prefix_metrics import prefix_figures
-from adder_forge.prefix_networks import (NETWORKS, NetworkError, build, check_fanouts, check_taxonomy, final_refs,
+from adder_forge.analysis.prefix_eval import PrefixError, check, complete_columns, depth, spans, stimulus
+from adder_forge.analysis.prefix_figures import prefix_figures
+from adder_forge.schemes.prefix_networks import (NETWORKS, NetworkError, build, check_fanouts, check_taxonomy, final_refs,
                                          from_rows, levels_of, param_levels, prune)
-from adder_forge.vectors import directed, exhaustive_chunks
+from adder_forge.emit.vectors import directed, exhaustive_chunks
 
 
 def triples(n):

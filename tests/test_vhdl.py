@@ -13,13 +13,14 @@ from pathlib import Path
 
 import pytest
 
-from adder_forge import ghdl, vhdl
-from adder_forge.artifacts import design
-from adder_forge.formal import prove
-from adder_forge.passes import break_gate, gate_indices
-from adder_forge.prefix_networks import NETWORKS
-from adder_forge.registry import schemes
-from adder_forge.spec import make_spec
+from adder_forge.checks import ghdl
+from adder_forge.emit import vhdl
+from adder_forge.emit.design import design
+from adder_forge.checks.formal import prove
+from adder_forge.ir.passes import break_gate, gate_indices
+from adder_forge.schemes.prefix_networks import NETWORKS
+from adder_forge.spec.registry import schemes
+from adder_forge.spec.loader import make_spec
 from matrix_prefix import SHORT, params
 
 WIDTHS = (8, 33, 64)
@@ -304,7 +305,7 @@ def _every_op(net):
     not in VHDL: doubled and leading underscores, reserved words, and names equal to another ignoring case."""
     from dataclasses import replace as dc_replace
 
-    from adder_forge.ir import Node, Port
+    from adder_forge.ir.network import Node, Port
 
     nodes: list = []
     new: dict[int, int] = {}
@@ -333,7 +334,7 @@ def _every_op(net):
 @pytest.mark.ghdl
 @pytest.mark.formal
 def test_every_cell_op_passes_in_ghdl_and_its_synthesis_is_proven(tmp_path):
-    from adder_forge.ir import check_well_formed
+    from adder_forge.ir.network import check_well_formed
 
     spec = make_spec("VhAllOps12", 12, "carry-select", block=4)  # GHDL folds it to lower case
     net = _every_op(design(spec).net)

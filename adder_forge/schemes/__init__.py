@@ -1,6 +1,8 @@
 """Carry schemes: importing this package registers every scheme module listed here."""
 
-from . import behavioral, lookahead, ripple  # noqa: F401
+from . import behavioral
+from . import lookahead
+from . import ripple  # noqa: F401
 
 # Optional scheme modules added by later work register themselves the same way.
 for _mod in ("prefix", "block_lookahead", "carry_select", "carry_skip", "conditional_sum"):

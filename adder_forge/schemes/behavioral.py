@@ -1,6 +1,6 @@
 """The baseline every user already has: one ``+``, left to the synthesis tool."""
 
-from ..registry import scheme
+from ..spec.registry import scheme
 from .common import finish, start
 
 

@@ -16,8 +16,8 @@ ripple above it starts from g_lo | (p_lo & t_lo-1) & H_lo-1, so the recovering A
 
 from __future__ import annotations
 
-from ..blocksizes import block_option, check_block
-from ..registry import int_option, scheme
+from .blocksizes import block_option, check_block
+from ..spec.registry import int_option, scheme
 from .blockparts import begin, gp_tree, ripple
 from .common import balanced, finish, sum_bits
 from .ling import LING, carry, transmits

@@ -9,8 +9,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from ..blocksizes import resolve, spans, text, wide_note
-from ..builder import Builder
+from .blocksizes import resolve, spans, text, wide_note
+from ..ir.builder import Builder
 from .common import Frame, generate_propagate, start
 
 

@@ -7,8 +7,8 @@ is c0 | c_in & c1 (one AO21 a block, role ``select``), valid because a block's c
 0 implies the one under carry-in 1.
 """
 
-from ..blocksizes import AUTO, block_option, check_block, select_auto
-from ..registry import scheme
+from .blocksizes import AUTO, block_option, check_block, select_auto
+from ..spec.registry import scheme
 from .blockparts import begin, conditional, ripple, select, select_carry
 from .common import finish
 

@@ -10,8 +10,8 @@ never be sensitized. Those are the adder's false paths; ``netlist_levels`` count
 
 from dataclasses import replace
 
-from ..blocksizes import AUTO, block_option, check_block, skip_auto
-from ..registry import scheme
+from .blocksizes import AUTO, block_option, check_block, skip_auto
+from ..spec.registry import scheme
 from .blockparts import begin, ripple
 from .common import balanced, finish, sum_bits
 

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from ..builder import Builder
-from ..ir import Network, PrefixGraph
+from ..ir.builder import Builder
+from ..ir.network import Network, PrefixGraph
 
 
 @dataclass

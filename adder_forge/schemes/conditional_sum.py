@@ -12,8 +12,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from ..blocksizes import block_option, check_block
-from ..registry import scheme
+from .blocksizes import block_option, check_block
+from ..spec.registry import scheme
 from .blockparts import begin, conditional, ripple, select, select_carry
 from .common import finish
 

@@ -8,7 +8,7 @@ fewer than the matching product of c_i+1, at the price of the t_i & H_i gate.
 
 from __future__ import annotations
 
-from ..registry import bool_option
+from ..spec.registry import bool_option
 
 LING = bool_option("ling", False, "Ling pseudo-carries H_i = c_i+1 | c_i in the carry network; c_i+1 = t_i & H_i")
 

@@ -9,7 +9,7 @@ so widths are capped.
 t_{i-1} ... t_0 c_in, one literal fewer in every product, then c_{i+1} = t_i & H_i.
 """
 
-from ..registry import scheme
+from ..spec.registry import scheme
 from .common import balanced, finish, generate_propagate, start, sum_bits
 from .ling import LING, carry, transmits
 

@@ -19,9 +19,9 @@ is used costs the AND2 back.
 
 from __future__ import annotations
 
-from ..blocksizes import block_option, check_block, resolve, spans, text, wide_note
-from ..prefix_networks import NETWORKS, NetworkError, build, final_refs, param_levels, prune
-from ..registry import Option, choice_option, scheme, type_name
+from .blocksizes import block_option, check_block, resolve, spans, text, wide_note
+from .prefix_networks import NETWORKS, NetworkError, build, final_refs, param_levels, prune
+from ..spec.registry import Option, choice_option, scheme, type_name
 from .blockparts import conditional, select
 from .common import finish, generate_propagate, start
 from .ling import LING, carry, transmits

@@ -1,6 +1,6 @@
 """Ripple-carry: one full adder a bit, the carry passed bit to bit (the smallest and slowest)."""
 
-from ..registry import scheme
+from ..spec.registry import scheme
 from .common import finish, generate_propagate, start, sum_bits
 
 

@@ -1,0 +1,318 @@
+"""Delay and area estimates read off the IR: the unit-gate model and logical effort.
+
+These are estimates for comparing carry schemes with each other, not timing sign-off: no wires, no real
+cell library, no placement. Synthesis and FPGA figures come from the tools (synth.py).
+
+Unit-gate model (Tyagi 1993, "A reduced-area scheme for carry-select adders", IEEE Trans. Computers;
+Zimmermann 1997, "Binary adder architectures for cell-based VLSI and their synthesis", ETH Zurich thesis;
+values from memory): a 2-input AND or OR costs 1 unit of area and 1 unit of delay, an XOR/XNOR 2 and 2.
+Cells the sources do not list are costed here as what they are made of (our choices, documented in
+``UNIT_GATE``): NOT 1 and 1 (not absorbed, so constant-folded inversions stay visible), AO21 = (x & y) | z
+as an AND into an OR (2 and 2), MUX2 as two ANDs and an OR with the select inverter shared (3 and 2).
+
+Logical effort (Sutherland, Sproull and Harris, "Logical Effort: Designing Fast CMOS Circuits", 1999;
+applied to adders in Harris and Sutherland, "Logical effort of carry propagate adders", Asilomar 2003):
+each IR cell is one static CMOS stage (``EFFORT``: logical effort g per input pin and parasitic delay p,
+in units of tau with p_inv = 1; values of the 1999 book from memory). Non-inverting cells are costed as
+their inverting stage (AND2 as NAND2, AO21 as AOI21, ...): the usual reading of an adder's gate graph, in
+which polarity alternates from level to level instead of paying an inverter per cell (Harris and
+Sutherland 2003 analyse prefix cells this way; from memory). XOR/XNOR assume both input polarities are at
+hand (common practice). Inputs are driven ideally; every output bit drives ``output_load`` unit inverters.
+
+Loads: with every gate normalised to unit drive (a pin of logical effort g presents g unit-inverter
+capacitances), a node's load L is the sum of g over the pins it drives plus the output load of the port
+bits it drives. Two figures follow from one pass in topological order:
+- ``unsized``: every gate at unit drive, delay of a stage d = g·h + p = L + p, arrival times added up: a
+  pessimistic bound in which a node of fanout 33 is as slow as 33 inverter loads make it.
+- ``sized`` (the headline figure): a path of N stages sized for least delay, D = N·F^(1/N) + P, where the
+  path effort F = G·B·H (logical, branching, electrical effort) is the product of the stage loads L along
+  the path, so the branching at every node of the path is counted. The reported path is the one with the
+  largest D, found by keeping, for every node and every stage count N, the incoming path of largest F
+  (ties broken by the larger P). Each path is sized on its own, as if its gates served it alone: the
+  classic optimistic reading of logical effort. 1 FO4 = 5 tau (an inverter driving four copies of itself:
+  p_inv + 4; common practice).
+
+A network with ADD cells (Verilog `+`, the behavioural baseline) has no estimate: synthesis chooses what a
+`+` becomes, so its figures are the synthesis ones.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+from ..ir.network import Network
+from .skip_timing import has_skip, sensitizable_levels
+
+NOT_ESTIMATED = "the network holds ADD cells (Verilog +), whose structure the synthesis tool chooses"
+
+
+@dataclass(frozen=True)
+class UnitGate:
+    area: int
+    delay: int
+    doc: str
+
+
+UNIT_GATE: dict[str, UnitGate] = {
+    "NOT": UnitGate(1, 1, "inverter (our choice: counted, not absorbed)"),
+    "AND2": UnitGate(1, 1, "2-input AND (Tyagi 1993, Zimmermann 1997)"),
+    "OR2": UnitGate(1, 1, "2-input OR (Tyagi 1993, Zimmermann 1997)"),
+    "XOR2": UnitGate(2, 2, "2-input XOR (Tyagi 1993, Zimmermann 1997)"),
+    "XNOR2": UnitGate(2, 2, "2-input XNOR, as XOR"),
+    "AO21": UnitGate(2, 2, "(x & y) | z: an AND into an OR"),
+    "MUX2": UnitGate(3, 2, "s ? d1 : d0: two ANDs into an OR, the select inverter shared"),
+}
+
+
+@dataclass(frozen=True)
+class EffortCell:
+    realisation: str  # the CMOS stage the IR cell is costed as
+    g: tuple[float, ...]  # logical effort of each input pin, in IR argument order
+    p: float  # parasitic delay, tau (p_inv = 1)
+
+
+EFFORT: dict[str, EffortCell] = {
+    "NOT": EffortCell("INV", (1.0,), 1.0),
+    "AND2": EffortCell("NAND2", (4 / 3, 4 / 3), 2.0),
+    "OR2": EffortCell("NOR2", (5 / 3, 5 / 3), 2.0),
+    "XOR2": EffortCell("XOR2", (4.0, 4.0), 4.0),
+    "XNOR2": EffortCell("XNOR2", (4.0, 4.0), 4.0),
+    # AO21 args (x, y, z) = (x & y) | z: the AND pair of an AOI21 has g = 2, the lone OR input 5/3.
+    "AO21": EffortCell("AOI21", (2.0, 2.0, 5 / 3), 7 / 3),
+    # MUX2 args (s, d0, d1): an inverting multiplexer of two tristate inverters, g = 2 on every input.
+    "MUX2": EffortCell("MUX2 (tristate inverters)", (2.0, 2.0, 2.0), 4.0),
+}
+
+
+@dataclass(frozen=True)
+class EffortModel:
+    cells: dict[str, EffortCell] = field(default_factory=lambda: dict(EFFORT))
+    output_load: float = 1.0  # unit inverters on every output bit
+    fo4: float = 5.0  # tau per FO4 delay
+
+
+DEFAULT_MODEL = EffortModel()
+
+
+def has_add(net: Network) -> bool:
+    return any(n.op in ("ADD", "PICK") for n in net.nodes)
+
+
+def _timed(net: Network, i: int) -> bool:
+    return net.nodes[i].op not in ("CONST",)
+
+
+def _outputs(net: Network) -> list[int]:
+    return [b for p in net.outputs for b in p.bits]
+
+
+def _name(net: Network, i: int) -> str:
+    n = net.nodes[i]
+    if n.op == "CONST":
+        return f"1'b{n.param}"
+    return n.name or f"n{i}"
+
+
+# -- unit-gate model -----------------------------------------------------------------------------------------
+def unit_gate(net: Network) -> dict | None:
+    """Unit-gate delay (longest path) and area of the whole network, or None if it holds ADD cells."""
+    if has_add(net):
+        return None
+    nodes = net.nodes
+    t = [0] * len(nodes)
+    via = [-1] * len(nodes)
+    area = 0
+    for i, n in enumerate(nodes):
+        if n.op in ("INPUT", "CONST"):
+            continue
+        cell = UNIT_GATE[n.op]
+        area += cell.area
+        best, arg = 0, -1
+        for a in n.args:
+            if _timed(net, a) and (arg < 0 or t[a] > best):
+                best, arg = t[a], a
+        t[i] = best + cell.delay
+        via[i] = arg
+    outs = _outputs(net)
+    end = max(outs, key=lambda b: t[b])
+    return {"delay": t[end], "area": area, "path": _trace(net, via, end)}
+
+
+def _trace(net: Network, via: list[int], end: int) -> list[str]:
+    path = []
+    i = end
+    while i >= 0:
+        path.append(_name(net, i))
+        i = via[i]
+    return path[::-1]
+
+
+# -- logical effort ------------------------------------------------------------------------------------------
+def loads(net: Network, model: EffortModel = DEFAULT_MODEL) -> list[float]:
+    """Capacitance each node drives, in unit-inverter input capacitances (unit-drive normalisation)."""
+    load = [0.0] * len(net.nodes)
+    for n in net.nodes:
+        if n.op in model.cells:
+            g = model.cells[n.op].g
+            for pin, a in enumerate(n.args):
+                load[a] += g[pin]
+    for b in _outputs(net):
+        load[b] += model.output_load
+    return load
+
+
+_P_SCALE = 1_000_000  # parasitic delays are summed as integers (micro-tau) so that equal sums are equal keys
+
+
+@dataclass
+class _Front:
+    """The best incoming paths of one node: for every (stage count N, parasitic P) the largest log F.
+
+    For a fixed N and P the sized delay N·F^(1/N) + P grows with F alone, so keeping the largest F per
+    (N, P) is exact. Keys and values are stored relative to the node's offsets (dn, dp, ds), so that a node
+    can start from a copy of its longest argument's table and pay Python time only for the others.
+    """
+
+    best: dict[tuple[int, int], float]  # (N - dn, P - dp) -> log F - ds
+    dn: int = 0
+    dp: int = 0
+    ds: float = 0.0
+
+
+@dataclass(frozen=True)
+class _Back:
+    """How to step back along a path: which argument each (relative) key came from."""
+
+    base: int  # the argument whose table was copied
+    override: dict[tuple[int, int], int]  # keys that another argument improved
+    dn: int
+    dp: int
+    p: int
+
+
+def _merge(timed: list[int], live: dict[int, _Front]) -> tuple[_Front, int, dict[tuple[int, int], int]]:
+    """Best paths into a node over all its arguments, before the node's own stage."""
+    longest = max(timed, key=lambda a: len(live[a].best))
+    base = live[longest]
+    out = _Front(dict(base.best), base.dn, base.dp, base.ds)
+    override: dict[tuple[int, int], int] = {}
+    best = out.best
+    for a in timed:
+        if a == longest:
+            continue
+        pa = live[a]
+        sn, sp, ss = pa.dn - out.dn, pa.dp - out.dp, pa.ds - out.ds
+        for (n, par), f in pa.best.items():
+            key = (n + sn, par + sp)
+            v = f + ss
+            if v > best.get(key, -math.inf):
+                best[key] = v
+                override[key] = a
+    return out, longest, override
+
+
+def logical_effort(net: Network, model: EffortModel = DEFAULT_MODEL) -> dict | None:
+    """Logical-effort delay estimates (see the module docstring), or None if the network holds ADD cells."""
+    if has_add(net):
+        return None
+    nodes = net.nodes
+    load = loads(net, model)
+    readers_left = net.uses()
+    keep = set(_outputs(net))
+    live: dict[int, _Front] = {}
+    back: dict[int, _Back] = {}
+    arrive = [0.0] * len(nodes)  # unsized arrival times
+    unsized_via = [-1] * len(nodes)
+    for i, n in enumerate(nodes):
+        if n.op == "CONST":
+            continue
+        timed = [a for a in n.args if nodes[a].op != "CONST"]
+        if n.op == "INPUT" or not timed:
+            live[i] = _Front({(0, 0): 0.0})
+            continue
+        cell = model.cells[n.op]
+        # Unsized: every gate at unit drive, stage delay L + p.
+        src = max(timed, key=lambda a: arrive[a])
+        arrive[i] = arrive[src] + load[i] + cell.p
+        unsized_via[i] = src
+        # Sized: the arguments' best paths, then this stage (N + 1, F * L, P + p).
+        front, base, override = _merge(timed, live)
+        pk = round(cell.p * _P_SCALE)
+        front.dn += 1
+        front.dp += pk
+        front.ds += math.log(load[i])
+        live[i] = front
+        back[i] = _Back(base, override, front.dn, front.dp, pk)
+        for a in n.args:
+            readers_left[a] -= 1
+            if readers_left[a] == 0 and a not in keep:
+                live.pop(a, None)
+    best = (-1.0, -1, 0, 0)  # (D, node, N, P key)
+    for b in _outputs(net):
+        fb = live.get(b)
+        if fb is None:
+            continue
+        for (n, par), f in fb.best.items():
+            stages, pkey = n + fb.dn, par + fb.dp
+            d = stages * math.exp((f + fb.ds) / stages) + pkey / _P_SCALE if stages else 0.0
+            if d > best[0]:
+                best = (d, b, stages, pkey)
+    sized, end, stages, pkey = best
+    path = []
+    i, n_here = end, stages
+    while n_here > 0:
+        path.append(i)
+        bk = back[i]
+        rel = (n_here - bk.dn, pkey - bk.dp)
+        i = bk.override.get(rel, bk.base)
+        n_here -= 1
+        pkey -= bk.p
+    path.reverse()
+    f_log = sum(math.log(load[j]) for j in path)
+    p_sum = sum(model.cells[nodes[j].op].p for j in path)
+    unsized_end = max(_outputs(net), key=lambda b: arrive[b])
+    return {
+        "sized_tau": round(sized, 3),
+        "sized_fo4": round(sized / model.fo4, 3),
+        "unsized_tau": round(arrive[unsized_end], 3),
+        "unsized_fo4": round(arrive[unsized_end] / model.fo4, 3),
+        "stages": stages,
+        "path_effort_log10": round(f_log / math.log(10), 3),  # F itself overflows a float on long ripples
+        "stage_effort": round(math.exp(f_log / stages), 3) if stages else 0.0,
+        "parasitic_tau": round(p_sum, 3),
+        "path": [{"node": _name(net, j), "op": nodes[j].op, "cell": model.cells[nodes[j].op].realisation,
+                  "load": round(load[j], 3), "p": round(model.cells[nodes[j].op].p, 3)} for j in path],
+        "unsized_path": _trace(net, unsized_via, unsized_end),
+    }
+
+
+# -- the report block ----------------------------------------------------------------------------------------
+def estimates(net: Network, model: EffortModel = DEFAULT_MODEL) -> dict:
+    """The ``estimates`` block of a report: unit-gate delay and area, logical-effort delay (tau and FO4)."""
+    ug = unit_gate(net)
+    le = logical_effort(net, model)
+    if ug is None or le is None:
+        return {"unit_gate_delay": None, "unit_gate_delay_skip_aware": None, "unit_gate_area": None,
+                "le_tau": None, "le_fo4": None,
+                "le_unsized_tau": None, "note": NOT_ESTIMATED}
+    note = ("estimates from the gate graph (unit-gate model; logical effort, each path sized on its own, "
+            f"output load {model.output_load:g} unit inverter(s), 1 FO4 = {model.fo4:g} tau); not sign-off timing")
+    skip_aware = None
+    if has_skip(net):
+        note += ("; unit_gate_delay and the logical-effort figures are topological: the ripple paths through each "
+                 "skip multiplexer are counted although they are false; unit_gate_delay_skip_aware is not")
+        skip_aware = sensitizable_levels(net, lambda op, _nargs: UNIT_GATE[op].delay)
+    return {
+        "unit_gate_delay": ug["delay"],
+        "unit_gate_delay_skip_aware": skip_aware,
+        "unit_gate_area": ug["area"],
+        "le_tau": le["sized_tau"],
+        "le_fo4": le["sized_fo4"],
+        "le_unsized_tau": le["unsized_tau"],
+        "le_stages": le["stages"],
+        "le_stage_effort": le["stage_effort"],
+        "unit_gate_path": ug["path"],
+        "le_path": [s["node"] for s in le["path"]],
+        "note": note,
+    }

@@ -1,0 +1,1 @@
+"""Foundation used by every layer: errors, names, version, running external tools, progress."""

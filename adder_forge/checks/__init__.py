@@ -1,0 +1,1 @@
+"""Checks that an adder adds: built-in evaluator, simulators, cocotb, formal proof, verify."""

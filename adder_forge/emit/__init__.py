@@ -1,0 +1,1 @@
+"""Back ends that only read the IR: Verilog, testbench and vectors, summaries, output folders."""

@@ -1,0 +1,61 @@
+"""From a validated spec to the files of its output folder, in memory."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from ..ir.network import Network
+from ..analysis.structure import metrics
+from ..spec.registry import elaborate
+from .summary import header_lines, report, to_json
+from ..spec.loader import Spec
+from .testbench import Testbench, emit_testbench, line_bytes
+from .verilog import emit_module
+from .vectors import make_plan
+
+TB_EXHAUSTIVE_LIMIT = 1 << 20  # the emitted testbench enumerates every input up to this many vectors
+TB_RANDOM = 2000  # random vectors beside the directed ones when it does not
+# The vectors file stays under this many bytes: a plan that would pass it is sampled (testbench.Sample).
+# 16 MiB holds every default plan up to 2414 bits, and 1365 vectors of a 16384-bit adder (a whole
+# plan there would be 629 MB). Exhaustive files stay below it: 2^20 lines of 9 bytes are 9 MiB.
+TB_MAX_BYTES = 16 << 20
+
+
+@dataclass(frozen=True)
+class Design:
+    spec: Spec
+    net: Network
+    metrics: dict
+    verilog: str
+    testbench: Testbench
+    plan: str  # how the testbench's vectors were chosen
+    hdl: tuple[str, ...] = ("verilog",)  # the forms files() writes: verilog, vhdl
+
+    def files(self) -> dict[str, str]:
+        n = self.spec.name
+        out = {f"{n}.v": self.verilog, f"{n}_tb.v": self.testbench.verilog} if "verilog" in self.hdl else {}
+        if "vhdl" in self.hdl:
+            from .vhdl import vhdl_files
+
+            out.update(vhdl_files(self))
+        out[f"{n}_vectors.hex"] = self.testbench.vectors_hex
+        out[f"{n}.json"] = to_json(self.report())
+        return out
+
+    def report(self, extra: dict | None = None) -> dict:
+        tb = {"testbench": {"vectors": self.testbench.count, "plan": self.plan}}
+        tb.update(extra or {})
+        return report(self.spec, self.metrics, tb, self.net.meta)
+
+
+def design(spec: Spec, net: Network | None = None, tb_random: int = TB_RANDOM, seed: int = 1,
+           tb_exhaustive_limit: int = TB_EXHAUSTIVE_LIMIT, tb_max_bytes: int = TB_MAX_BYTES) -> Design:
+    """Elaborate (unless a network is given, e.g. a deliberately broken one) and emit everything."""
+    net = net if net is not None else elaborate(spec)
+    m = metrics(net)
+    # exhaustive only when the whole enumeration fits the file cap; a sampled enumeration would be neither
+    limit = min(tb_exhaustive_limit, tb_max_bytes // line_bytes(spec.width))
+    plan = make_plan(spec.width, spec.carry_in, limit, tb_random, seed)
+    tb = emit_testbench(spec.name, spec.width, spec.carry_in, spec.carry_out, plan, tb_max_bytes)
+    return Design(spec, net, m, emit_module(net, header_lines(spec, m, net.meta)), tb,
+                  plan.describe() + tb.pick.summary())

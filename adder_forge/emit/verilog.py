@@ -1,0 +1,119 @@
+"""Verilog-2001 from the IR: one scalar wire per gate (Icarus slows down 10-60x on per-bit assigns to
+vector nets, see docs/toolchain.md), outputs gathered in one concatenation, and no time stamps so that the same
+spec gives the same bytes."""
+
+from __future__ import annotations
+
+from ..ir.cells import add_width
+from ..ir.network import Network
+
+
+def _ref(net: Network, i: int) -> tuple[str, int | None]:
+    """(vector-or-scalar name, bit index or None) of a node as an operand."""
+    n = net.nodes[i]
+    if n.op == "INPUT":
+        port = n.name.split("[")[0]
+        p = net.port(port)
+        return (port, None) if p.scalar else (port, n.param)
+    if n.op == "PICK":
+        return (net.nodes[n.args[0]].name, n.param)
+    if n.op == "CONST":
+        return (f"1'b{n.param}", None)
+    return (n.name, None)
+
+
+def operand(net: Network, i: int) -> str:
+    name, bit = _ref(net, i)
+    return name if bit is None else f"{name}[{bit}]"
+
+
+def concat(net: Network, msb_first: list[int]) -> str:
+    """A concatenation with runs of consecutive bits of one vector folded into part selects."""
+    refs = [_ref(net, i) for i in msb_first]
+    parts: list[str] = []
+    k = 0
+    while k < len(refs):
+        name, bit = refs[k]
+        j = k
+        if bit is not None:
+            while j + 1 < len(refs) and refs[j + 1][0] == name and refs[j + 1][1] == refs[j][1] - 1:
+                j += 1
+        if bit is None:
+            parts.append(name)
+        elif j == k:
+            parts.append(f"{name}[{bit}]")
+        else:
+            p = net.port(name)
+            whole = p is not None and not p.scalar and bit == p.width - 1 and refs[j][1] == 0
+            parts.append(name if whole else f"{name}[{bit}:{refs[j][1]}]")
+        k = j + 1
+    return parts[0] if len(parts) == 1 else "{" + ", ".join(parts) + "}"
+
+
+# Verilog text of each gate; {0}, {1}, {2} are the cell's arguments in IR order (MUX2: s, d0, d1).
+_FORMAT = {
+    "NOT": "~{0}",
+    "AND2": "{0} & {1}",
+    "OR2": "{0} | {1}",
+    "XOR2": "{0} ^ {1}",
+    "XNOR2": "~({0} ^ {1})",
+    "AO21": "({0} & {1}) | {2}",
+    "MUX2": "{0} ? {2} : {1}",
+}
+
+
+def expression(net: Network, i: int) -> str:
+    n = net.nodes[i]
+    if n.op not in _FORMAT:
+        raise ValueError(f"no Verilog expression for {n.op}")
+    return _FORMAT[n.op].format(*(operand(net, a) for a in n.args))
+
+
+def _read_carries(net: Network, uses: list[int]) -> set[int]:
+    """ADD cells whose carry-out bit something reads (the vector then needs k + 1 bits, else k)."""
+    out = set()
+    for j, n in enumerate(net.nodes):
+        if n.op == "PICK" and uses[j] and n.param == add_width(len(net.nodes[n.args[0]].args)):
+            out.add(n.args[0])
+    return out
+
+
+def _add_expr(net: Network, i: int, bits: int) -> str:
+    n = net.nodes[i]
+    k = add_width(len(n.args))
+    a = concat(net, list(reversed(n.args[:k])))
+    b = concat(net, list(reversed(n.args[k : 2 * k])))
+    cin_node = net.nodes[n.args[2 * k]]
+    # Operands widened to the vector's width by hand so that lint sees no implicit width change.
+    wide = bits > k
+    text = f"{{1'b0, {a}}} + {{1'b0, {b}}}" if wide else f"{a} + {b}"
+    if cin_node.op == "CONST" and cin_node.param == 0:
+        return text
+    pad = k if wide else k - 1
+    cin = operand(net, n.args[2 * k])
+    return text + (f" + {{{pad}'d0, {cin}}}" if pad else f" + {cin}")
+
+
+def port_decls(net: Network) -> list[dict]:
+    decls = []
+    for direction, ports in (("input ", net.inputs), ("output", net.outputs)):
+        for p in ports:
+            rng = "       " if p.scalar else f"[{p.width - 1}:0]".ljust(7)
+            decls.append({"decl": f"{direction} wire {rng} {p.name}".rstrip()})
+    return decls
+
+
+def emit_module(net: Network, header: list[str]) -> str:
+    from .templating import render
+
+    wires, vectors = [], []
+    carried = _read_carries(net, net.uses())
+    for i, n in enumerate(net.nodes):
+        if n.op == "ADD":
+            bits = add_width(len(n.args)) + (i in carried)
+            vectors.append({"name": n.name, "msb": bits - 1, "expr": _add_expr(net, i, bits)})
+        elif n.op not in ("INPUT", "CONST", "PICK"):
+            wires.append({"name": n.name, "expr": expression(net, i)})
+    outputs = [{"name": p.name, "expr": concat(net, list(reversed(p.bits)))} for p in net.outputs]
+    return render("module.v.j2", header=header, name=net.name, ports=port_decls(net), wires=wires,
+                  vectors=vectors, outputs=outputs)

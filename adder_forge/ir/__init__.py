@@ -1,0 +1,1 @@
+"""The gate-level IR: cells, the frozen Network, the builder, passes over it."""

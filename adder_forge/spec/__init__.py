@@ -1,0 +1,1 @@
+"""Specs: the YAML loader and the registry of schemes and the keys each accepts."""

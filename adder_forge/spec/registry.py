@@ -1,0 +1,152 @@
+"""Registries of carry schemes and their options, filled by decorators; a bad name lists the valid ones."""
+
+from __future__ import annotations
+
+import difflib
+import re
+from dataclasses import dataclass
+from typing import Any, Callable
+
+MAX_WIDTH = 16384  # generous; schemes with super-linear size set their own, lower limit
+
+
+def shown(text, limit: int = 40) -> str:
+    """User text for a one-line message: control characters escaped, long text cut."""
+    text = str(text)
+    cut = len(text) > limit
+    text = text[:limit].encode("unicode_escape").decode("ascii") if not text[:limit].isprintable() else text[:limit]
+    return text + ("..." if cut else "")
+
+
+def suggest(word: str, choices, aliases: dict[str, str] | None = None) -> str:
+    """' (did you mean 'x'?)' for the closest choice, else the list of valid ones.
+
+    ``aliases`` maps other common names to a choice (a suggestion by meaning, not by spelling).
+    """
+    choices = sorted(choices)
+    word = str(word)
+    aliases = dict(aliases or {})
+    aliases.update({c.lower(): c for c in choices})
+    if word.lower() in aliases:
+        return f" (did you mean '{aliases[word.lower()]}'?)"
+    close = difflib.get_close_matches(word.lower(), sorted(aliases), n=1, cutoff=0.6) if len(word) <= 64 else []
+    close = [aliases[c] for c in close]
+    if close:
+        return f" (did you mean '{close[0]}'?)"
+    return " (valid: " + ", ".join(choices) + ")"
+
+
+@dataclass(frozen=True)
+class Option:
+    """A scheme-specific spec key.
+
+    ``parse(value, fail)`` turns the YAML value into a frozen Python value or calls ``fail(message)``,
+    which raises a SpecError pointing at that value.
+    """
+
+    key: str
+    parse: Callable[[Any, Callable[[str], Exception]], Any]
+    default: Any
+    doc: str
+
+
+@dataclass(frozen=True)
+class Scheme:
+    name: str
+    build: Callable[..., Any]  # (Spec) -> Network
+    options: tuple[Option, ...] = ()
+    doc: str = ""
+    max_width: int = MAX_WIDTH
+    check: Callable[..., None] | None = None  # (Spec) -> None; raises spec.error(...) for cross-key rules
+
+
+SCHEMES: dict[str, Scheme] = {}
+
+
+def scheme(name: str, *, options=(), doc: str = "", max_width: int = MAX_WIDTH, check=None):
+    """Register ``fn(spec) -> Network`` as the construction of carry scheme ``name``."""
+
+    def deco(fn):
+        if name in SCHEMES:
+            raise ValueError(f"scheme {name} registered twice")
+        SCHEMES[name] = Scheme(name, fn, tuple(options), doc or (fn.__doc__ or "").strip(), max_width, check)
+        return fn
+
+    return deco
+
+
+def schemes() -> dict[str, Scheme]:
+    from .. import schemes as _  # noqa: F401  (importing the package fills the registry)
+
+    return SCHEMES
+
+
+# -- option parsers ---------------------------------------------------------------------------------------
+# Plain scalars that YAML 1.1 tools read as booleans or integers; the spec loader reads YAML 1.2, where they
+# are strings, so a key that wants a boolean or an integer explains why it got a string.
+_YAML11_BOOL = {"yes", "no", "on", "off", "y", "n"}
+_YAML11_INT = re.compile(r"[-+]?(?:0b[01_]+|[0-9][0-9_]*(?::[0-5]?[0-9])+|[0-9][0-9_]*_[0-9_]*)\Z")
+
+
+def yaml11_hint(v) -> str:
+    if isinstance(v, str) and v.lower() in _YAML11_BOOL:
+        return " (specs are read as YAML 1.2: write true or false)"
+    if isinstance(v, str) and _YAML11_INT.match(v):
+        return " (specs are read as YAML 1.2: write a plain decimal number, 0x.. or 0o..)"
+    return ""
+
+
+def int_option(key: str, default, lo: int, hi: int, doc: str) -> Option:
+    def parse(v, fail):
+        if isinstance(v, bool) or not isinstance(v, int):
+            fail(f"'{key}' must be an integer, got {type_name(v)}" + yaml11_hint(v))
+        if not lo <= v <= hi:
+            fail(f"'{key}' must be between {lo} and {hi}, got {shown(v)}")
+        return v
+
+    return Option(key, parse, default, doc)
+
+
+def choice_option(key: str, choices, default, doc: str) -> Option:
+    choices = tuple(choices)
+
+    def parse(v, fail):
+        if not isinstance(v, str):
+            fail(f"'{key}' must be one of {', '.join(choices)}, got {type_name(v)}")
+        if v not in choices:
+            fail(f"unknown {key} '{shown(v)}'" + suggest(v, choices))
+        return v
+
+    return Option(key, parse, default, doc)
+
+
+def bool_option(key: str, default: bool, doc: str) -> Option:
+    def parse(v, fail):
+        if not isinstance(v, bool):
+            fail(f"'{key}' must be true or false, got {type_name(v)}" + yaml11_hint(v))
+        return v
+
+    return Option(key, parse, default, doc)
+
+
+def type_name(v) -> str:
+    if v is None:
+        return "nothing"
+    if isinstance(v, bool):
+        return f"boolean {str(v).lower()}"
+    if isinstance(v, int):
+        return f"integer {v}" if abs(v) < 10 ** 30 else f"an integer of {v.bit_length()} bits"
+    if isinstance(v, float):
+        return f"number {v}"
+    if isinstance(v, str):
+        return f"string '{shown(v)}'"
+    if isinstance(v, list):
+        return "a list"
+    if isinstance(v, dict):
+        return "a mapping"
+    return type(v).__name__
+
+
+def elaborate(spec):
+    """Build the gate-level network for a validated spec."""
+    return schemes()[spec.scheme].build(spec)

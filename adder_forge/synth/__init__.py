@@ -1,0 +1,1 @@
+"""Measurement by synthesis and place-and-route flows, beside the `+` baseline."""

