@@ -13,7 +13,7 @@ from dataclasses import replace
 from pathlib import Path
 
 from .base.version import __version__
-from .base.errors import AdderForgeError, OutputConflict, OutputError, SpecError, ToolError, UsageError
+from .base.errors import AdderForgeError, UsageError
 
 EXIT_OK, EXIT_MISMATCH, EXIT_INPUT, EXIT_TOOL = 0, 1, 2, 3
 
@@ -77,23 +77,8 @@ def main(argv: list[str] | None = None) -> int:
             if getattr(args, option, None) is not None:
                 check_folder(getattr(args, option), args.command, f"--{option}")
         return _COMMANDS[args.command](args)
-    except SpecError as exc:
-        print(str(exc), file=sys.stderr)
-        return EXIT_INPUT
-    except UsageError as exc:
-        print(str(exc), file=sys.stderr)
-        return EXIT_INPUT
-    except ToolError as exc:
-        print(f"adder-forge: {exc}", file=sys.stderr)
-        return EXIT_TOOL
-    except OutputConflict as exc:
-        print(str(exc), file=sys.stderr)
-        return EXIT_INPUT
-    except OutputError as exc:
-        print(f"adder-forge: {exc}", file=sys.stderr)
-        return EXIT_TOOL
-    except AdderForgeError as exc:
-        print(f"adder-forge: error: {exc}", file=sys.stderr)
+    except AdderForgeError as exc:  # each error class knows its line and its exit status
+        print(exc.printed(), file=sys.stderr)
         return exc.exit_status
     except KeyboardInterrupt:
         print("adder-forge: interrupted", file=sys.stderr)
@@ -288,7 +273,7 @@ def cmd_report(args) -> int:
 
 def cmd_dump(args) -> int:
     from .ir.network import dump
-    from .spec.registry import elaborate
+    from .schemes import elaborate
     from .spec.loader import load_spec
 
     specs = [load_spec(p) for p in args.specs]  # all checked before anything is printed

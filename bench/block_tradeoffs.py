@@ -17,7 +17,8 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 from adder_forge.schemes.blocksizes import resolve, skip_auto, skip_delay  # noqa: E402
 from adder_forge.analysis.structure import metrics  # noqa: E402
-from adder_forge.spec.registry import elaborate  # noqa: E402
+from adder_forge.schemes import elaborate  # noqa: E402
+from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec  # noqa: E402
 
 WIDTHS = (32, 64)

@@ -22,7 +22,7 @@ from common import cases, save
 
 from adder_forge.checks.builtin import check
 from adder_forge.ir.network import Node, Port
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec
 from adder_forge.checks.verify import BUILTIN_EXHAUSTIVE_LIMIT, FORCED_EXHAUSTIVE_LIMIT
 from adder_forge.emit.vectors import make_plan

@@ -16,7 +16,7 @@ from common import ROOT, best_of, cases, save
 
 from adder_forge.emit.design import design
 from adder_forge.analysis.structure import metrics
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.emit.summary import header_lines
 from adder_forge.spec.loader import make_spec
 from adder_forge.emit.verilog import emit_module

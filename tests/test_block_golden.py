@@ -7,7 +7,7 @@ ADDER_FORGE_REGEN_GOLDEN=1 .venv/bin/pytest tests/test_block_golden.py, and read
 import pytest
 
 from adder_forge.ir.network import dump
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec
 from conftest import golden
 

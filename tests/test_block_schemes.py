@@ -10,7 +10,7 @@ import pytest
 from adder_forge.checks.builtin import check
 from adder_forge.ir.network import check_well_formed
 from adder_forge.analysis.structure import metrics
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec
 from adder_forge.emit.vectors import make_plan
 

@@ -12,7 +12,7 @@ import pytest
 from adder_forge.schemes.blocksizes import resolve, select_auto, select_carry_levels, skip_auto, skip_delay
 from adder_forge.base.errors import SpecError
 from adder_forge.analysis.structure import depth
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec, parse_spec
 
 BLOCK_SCHEMES = ("carry-skip", "carry-select", "conditional-sum", "block-lookahead")

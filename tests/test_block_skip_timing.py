@@ -17,7 +17,7 @@ from adder_forge.ir.cells import levels_of
 from adder_forge.checks.evaluate import Evaluator
 from adder_forge.ir.network import Port
 from adder_forge.analysis.structure import gate_levels, metrics
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.analysis.skip_timing import sensitizable_levels
 from adder_forge.spec.loader import make_spec
 from adder_forge.emit.vectors import exhaustive_chunks, to_planes

@@ -17,7 +17,7 @@ from adder_forge.checks.builtin import check, check_set
 from adder_forge.cli import main
 from adder_forge.checks.evaluate import Evaluator
 from adder_forge.ir.passes import break_gate, gate_indices
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec
 from adder_forge.checks.verify import BUILTIN_EXHAUSTIVE_LIMIT, builtin_plan, verify
 from adder_forge.emit.vectors import BlockScratch, ExhaustiveBlocks, Plan, exhaustive_chunks, make_plan, space_bits

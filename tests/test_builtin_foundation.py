@@ -5,7 +5,7 @@ import pytest
 from adder_forge.checks.builtin import check
 from adder_forge.ir.network import check_well_formed
 from adder_forge.ir.passes import break_gate, gate_indices
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec
 from adder_forge.checks.verify import BUILTIN_EXHAUSTIVE_LIMIT
 from adder_forge.emit.vectors import make_plan, space_bits

@@ -8,7 +8,7 @@ from adder_forge.checks.builtin import check
 from adder_forge.cli import main
 from adder_forge.checks.formal import prove
 from adder_forge.ir.passes import break_gate, gate_indices
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.checks.simulators import simulate
 from adder_forge.spec.loader import make_spec
 from adder_forge.base.tools import Command, find, run

@@ -9,7 +9,8 @@ import pytest
 
 from adder_forge.ir.builder import Builder
 from adder_forge.analysis.delay import EFFORT, estimates, loads, logical_effort, unit_gate
-from adder_forge.spec.registry import elaborate, schemes
+from adder_forge.spec.registry import schemes
+from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec
 
 

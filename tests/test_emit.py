@@ -11,7 +11,7 @@ from adder_forge import __version__
 from adder_forge.emit.design import design
 from adder_forge.cli import main
 from adder_forge.ir.network import dump
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec
 from conftest import golden
 

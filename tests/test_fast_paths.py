@@ -8,7 +8,7 @@ import pytest
 from adder_forge.emit import vectors as v
 from adder_forge.ir.builder import Builder
 from adder_forge.checks.builtin import check
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec
 
 WIDTHS = [1, 5, 12, 31, 32, 33, 62, 63, 64, 65, 96, 128, 200]

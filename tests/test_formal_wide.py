@@ -5,7 +5,7 @@ import pytest
 from adder_forge.emit.design import design
 from adder_forge.checks.formal import prove
 from adder_forge.ir.passes import break_gate, gate_indices
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec
 
 

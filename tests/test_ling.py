@@ -9,7 +9,7 @@ from adder_forge.checks.builtin import check
 from adder_forge.checks.evaluate import Evaluator
 from adder_forge.ir.network import Port
 from adder_forge.analysis.structure import metrics
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec
 from adder_forge.emit.vectors import exhaustive_chunks, make_plan, to_planes
 

@@ -6,7 +6,7 @@ import math
 import pytest
 
 from adder_forge.analysis.structure import metrics
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec
 
 

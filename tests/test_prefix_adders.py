@@ -11,7 +11,7 @@ from adder_forge.analysis.structure import metrics
 from adder_forge.ir.passes import break_gate, gate_indices
 from adder_forge.analysis.prefix_eval import complete_columns
 from adder_forge.schemes.prefix_networks import NETWORKS, build, levels_of
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.emit.summary import report
 from adder_forge.spec.loader import make_spec, parse_spec
 from adder_forge.emit.vectors import make_plan, space_bits

@@ -9,7 +9,7 @@ import pytest
 from adder_forge.base import progress as pg
 from adder_forge.checks.builtin import check
 from adder_forge.cli import main
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec
 from adder_forge.emit.vectors import make_plan
 

@@ -10,7 +10,7 @@ import pytest
 
 from adder_forge.base import tools
 from adder_forge.emit.design import design
-from adder_forge.base.errors import SpecError, ToolError
+from adder_forge.base.errors import ToolError, UsageError
 from adder_forge.synth.measure import format_table, measure_specs
 from adder_forge.spec.loader import make_spec
 from adder_forge.synth.flows import FLOWS, synthesize
@@ -106,10 +106,10 @@ def test_missing_tool_says_how_to_install_it(monkeypatch, tmp_path):
 
 
 def test_unknown_flow_is_a_usage_error(tmp_path):
-    with pytest.raises(SpecError) as exc:
+    with pytest.raises(UsageError) as exc:
         measure_specs([make_spec("m8", 8, "ripple")], ["lut4"], tmp_path)
-    assert "unknown synthesis flow 'lut4'" in str(exc.value)
-    assert exc.value.field == "--synth"
+    assert str(exc.value) == "adder-forge report: error: unknown synthesis flow 'lut4' (did you mean 'lut6'?)"
+    assert exc.value.option == "--synth" and exc.value.exit_status == 2
 
 
 @pytest.mark.synth

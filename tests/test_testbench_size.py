@@ -11,7 +11,7 @@ import pytest
 
 from adder_forge.emit.design import TB_MAX_BYTES, design
 from adder_forge.ir.passes import break_gate, gate_indices
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.checks.simulators import simulate
 from adder_forge.spec.loader import make_spec
 from adder_forge.emit.testbench import SAMPLE_HEAD, line_bytes, plan_size

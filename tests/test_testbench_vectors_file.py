@@ -15,7 +15,7 @@ import pytest
 
 from adder_forge.emit.design import design
 from adder_forge.ir.passes import break_gate, gate_indices
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 from adder_forge.checks.simulators import BATCH_TOP, commands, outcomes, stage
 from adder_forge.spec.loader import make_spec
 from adder_forge.base.tools import Command, find, run

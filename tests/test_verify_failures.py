@@ -12,7 +12,7 @@ from adder_forge.emit.design import design
 from adder_forge.cli import main
 from adder_forge.base.errors import ToolError
 from adder_forge.ir.passes import break_gate, gate_indices
-from adder_forge.spec.registry import elaborate
+from adder_forge.schemes import elaborate
 
 SPEC = "name: {name}\nwidth: 4\nscheme: ripple\n"
 

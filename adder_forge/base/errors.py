@@ -9,9 +9,13 @@ def one_line(text: str) -> str:
 
 
 class AdderForgeError(Exception):
-    """Base of every error the library raises on purpose."""
+    """Base of every error the library raises on purpose. Each class carries its exit status and the one
+    line the command prints for it (``printed()``), so the CLI needs no table of its own."""
 
     exit_status = 2
+
+    def printed(self) -> str:
+        return one_line(f"adder-forge: error: {self}")
 
 
 class SpecError(AdderForgeError):
@@ -27,6 +31,9 @@ class SpecError(AdderForgeError):
 
     def __str__(self) -> str:
         return one_line(f"{self.file}:{self.line}:{self.col}: error: {self.message}")
+
+    def printed(self) -> str:
+        return str(self)
 
 
 class UsageError(AdderForgeError):
@@ -47,9 +54,14 @@ class UsageError(AdderForgeError):
         prog = "adder-forge" + (f" {self.command}" if self.command else "")
         return one_line(f"{prog}: error: {self.message}")
 
+    def printed(self) -> str:
+        return str(self)
+
 
 class ToolError(AdderForgeError):
     """An external tool is missing or failed for a reason that is not a verification mismatch."""
+
+    exit_status = 3
 
     def __init__(self, message: str, hint: str = ""):
         super().__init__(message)
@@ -59,6 +71,9 @@ class ToolError(AdderForgeError):
     def __str__(self) -> str:
         return f"error: {self.message}" + (f" ({self.hint})" if self.hint else "")
 
+    def printed(self) -> str:
+        return f"adder-forge: {self}"
+
 
 class OutputError(AdderForgeError):
     """The output folder could not be written; earlier outputs are left as they were."""
@@ -67,6 +82,9 @@ class OutputError(AdderForgeError):
 
     def __str__(self) -> str:
         return f"error: {self.args[0]}"
+
+    def printed(self) -> str:
+        return one_line(f"adder-forge: {self}")
 
 
 class OutputConflict(OutputError):
@@ -82,3 +100,6 @@ class OutputConflict(OutputError):
 
     def __str__(self) -> str:
         return f"{self.path}: error: {self.message}"
+
+    def printed(self) -> str:
+        return one_line(str(self))

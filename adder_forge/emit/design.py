@@ -6,7 +6,7 @@ from dataclasses import dataclass
 
 from ..ir.network import Network
 from ..analysis.structure import metrics
-from ..spec.registry import elaborate
+from ..schemes import elaborate
 from .summary import header_lines, report, to_json
 from ..spec.loader import Spec
 from .testbench import Testbench, emit_testbench, line_bytes

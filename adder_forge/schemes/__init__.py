@@ -1,13 +1,12 @@
-"""Carry schemes: importing this package registers every scheme module listed here."""
+"""Carry schemes, one module each; importing this package registers every one of them in
+``spec.registry.SCHEMES`` (the package's ``__init__`` imports it, so the registry is full whenever
+adder_forge is imported)."""
 
-from . import behavioral
-from . import lookahead
-from . import ripple  # noqa: F401
+from ..spec.registry import SCHEMES
+from . import (behavioral, block_lookahead, carry_select, carry_skip, conditional_sum,  # noqa: F401
+               lookahead, prefix, ripple)
 
-# Optional scheme modules added by later work register themselves the same way.
-for _mod in ("prefix", "block_lookahead", "carry_select", "carry_skip", "conditional_sum"):
-    try:
-        __import__(f"{__name__}.{_mod}")
-    except ModuleNotFoundError as _exc:  # pragma: no cover - only while a module does not exist yet
-        if _exc.name != f"{__name__}.{_mod}":
-            raise
+
+def elaborate(spec):
+    """Build the gate-level network of a validated spec with the scheme it names."""
+    return SCHEMES[spec.scheme].build(spec)

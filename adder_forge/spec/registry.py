@@ -76,8 +76,8 @@ def scheme(name: str, *, options=(), doc: str = "", max_width: int = MAX_WIDTH, 
 
 
 def schemes() -> dict[str, Scheme]:
-    from .. import schemes as _  # noqa: F401  (importing the package fills the registry)
-
+    """Every registered scheme. The schemes package fills the registry when adder_forge is imported; the
+    spec layer never imports the layer above it."""
     return SCHEMES
 
 
@@ -146,7 +146,3 @@ def type_name(v) -> str:
         return "a mapping"
     return type(v).__name__
 
-
-def elaborate(spec):
-    """Build the gate-level network for a validated spec."""
-    return schemes()[spec.scheme].build(spec)

@@ -16,7 +16,7 @@ from typing import Callable
 
 from ..emit.design import Design, design
 from ..analysis.delay import estimates
-from ..base.errors import OutputConflict, SpecError, ToolError
+from ..base.errors import UsageError, OutputConflict, SpecError, ToolError
 from ..emit.outputs import Folder, check_replaceable, fingerprint, read_manifest, sha256_text, update_files, write_folders
 from ..analysis.structure import LEFT_TO_SYNTHESIS
 from ..spec.registry import suggest
@@ -45,7 +45,7 @@ def check_flows(flows: list[str]) -> list[str]:
     out = []
     for f in flows:
         if f not in FLOWS:
-            raise SpecError(f"unknown synthesis flow '{f}'" + suggest(f, FLOWS), "<command line>", 1, 1, "--synth")
+            raise UsageError(f"unknown synthesis flow '{f}'" + suggest(f, FLOWS), "report", "--synth")
         if f not in out:
             out.append(f)
     return out
