@@ -3,7 +3,7 @@ addition, converted with Amaranth's Verilog back end and proven equal to the fla
 
 The references are outside the project: expected values are Python's `a + b + cin`; the proof is Yosys's
 SAT solver on a miter of the two modules, with undefined values modelled (`-enable_undef
--set-def-inputs`, docs/toolchain.md), so a converted module that leaves a bit undriven cannot pass.
+-set-def-inputs`, docs/toolchain.md), so an x in either module counts as a difference.
 """
 
 from __future__ import annotations
@@ -31,6 +31,8 @@ from adder_forge.tools import Command, find, run
 from adder_forge.vectors import directed
 from adder_forge.verilog import emit_module
 from matrix_prefix import SHORT, params
+
+pytestmark = pytest.mark.amaranth
 
 # (id, keys other than name and width, carry_in, carry_out); the flags vary so every port set is built.
 CASES = [
@@ -330,6 +332,17 @@ def test_proof_catches_a_broken_gate_in_the_converted_verilog(tmp_path, wheel_yo
     good = component_from_network(net)
     ok, log = _prove_pairs(tmp_path / "good", [("am_bad33", emit_module(net, []), _converted(good, "am_bad33_am"))])
     assert ok, log[-2000:]
+
+
+@pytest.mark.formal
+def test_proof_catches_an_undriven_wire_in_the_converted_verilog(tmp_path, wheel_yosys):
+    comp = component({"name": "am_undriven8", "width": 8, "scheme": "ripple"})
+    lines = _converted(comp, "am_undriven8_am").splitlines()
+    carry = [k for k, line in enumerate(lines) if re.match(r"\s*assign c4 = ", line)]
+    assert len(carry) == 1
+    del lines[carry[0]]
+    ok, log = _prove_pairs(tmp_path, [("am_undriven8", emit_module(comp.network, []), "\n".join(lines) + "\n")])
+    assert not ok and "proof did fail" in log
 
 
 def test_use_wheel_yosys_keeps_a_yosys_the_user_chose(monkeypatch):
