@@ -209,7 +209,7 @@ def test_refuses_networks_it_cannot_express():
 
 
 # -- Amaranth's simulator against Python integers -----------------------------------------------------------
-@pytest.mark.parametrize("width", [1, 4])
+@pytest.mark.parametrize("width", [1, 3, 4])
 @pytest.mark.parametrize("case", CASES, ids=IDS)
 def test_exhaustive_small(case, width):
     comp = component(mapping(case, width))
