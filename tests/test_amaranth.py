@@ -22,14 +22,15 @@ from amaranth.lib import wiring
 from amaranth.sim import Simulator
 
 from adder_forge.amaranth import UnsupportedForm, component, component_from_network, use_wheel_yosys
-from adder_forge.errors import SpecError
-from adder_forge.ir import Node, Port
-from adder_forge.passes import break_gate, gate_indices
-from adder_forge.registry import elaborate, schemes
-from adder_forge.spec import load_spec, make_spec
-from adder_forge.tools import Command, find, run
-from adder_forge.vectors import directed
-from adder_forge.verilog import emit_module
+from adder_forge.base.errors import SpecError
+from adder_forge.ir.network import Node, Port
+from adder_forge.ir.passes import break_gate, gate_indices
+from adder_forge.schemes import elaborate
+from adder_forge.spec.registry import schemes
+from adder_forge.spec.loader import load_spec, make_spec
+from adder_forge.base.tools import Command, find, run
+from adder_forge.emit.vectors import directed
+from adder_forge.emit.verilog import emit_module
 from matrix_prefix import SHORT, params
 
 pytestmark = pytest.mark.amaranth
