@@ -46,7 +46,7 @@ from dataclasses import dataclass, field
 
 from ..ir.cells import CELLS, EffortCell, UnitGate
 from ..ir.network import Network
-from .arrival import Arrival, arrival, output_bits
+from ..ir.arrival import Arrival, arrival, output_bits
 from .skip_timing import has_skip, sensitizable_levels
 
 NOT_ESTIMATED = "the network holds ADD cells (Verilog +), whose structure the synthesis tool chooses"

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from ..ir.cells import levels_of
 from ..ir.network import Network
-from .arrival import SKIP, arrival, is_skip, output_bits
+from ..ir.arrival import SKIP, arrival, is_skip, output_bits
 
 __all__ = ["SKIP", "has_skip", "sensitizable_depth", "sensitizable_levels"]
 

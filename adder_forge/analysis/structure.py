@@ -21,7 +21,7 @@ from collections import Counter
 
 from ..ir.cells import GATES, cost_of, levels_of
 from ..ir.network import Network
-from .arrival import arrival, output_bits
+from ..ir.arrival import arrival, output_bits
 from .skip_timing import sensitizable_levels
 
 LEFT_TO_SYNTHESIS = "n/a: left to synthesis"  # how the netlist figures of a Verilog `+` are shown

@@ -21,8 +21,8 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import dataclass
 
-from ..ir.cells import CELLS
-from ..ir.network import Network, Node
+from .cells import CELLS
+from .network import Network, Node
 
 SKIP = "skip"  # the role of a bypass multiplexer
 
