@@ -47,6 +47,12 @@ def test_every_op_has_every_field_of_its_kind(op):
         assert all(k < c.arity for _, pins in c.steps for k in pins)
         if c.slip is not None:
             assert CELLS[c.slip].arity == c.arity and truth(c.slip) != truth(op)
+    elif c.kind == "register":
+        assert c.arity == 1 and c.none_because
+        for f in ("evaluate", "verilog", "vhdl", "amaranth"):
+            assert getattr(c, f) is not None, f"{op} has no {f}"
+        assert c.evaluate(0) == 0 and c.evaluate(1) == 1  # the next state is the data input
+        assert c.unit_gate is None and c.effort is None and c.steps is None
     else:
         # what does not apply is None, and the table says why
         assert c.none_because, f"{op}: say why it has no gate forms"

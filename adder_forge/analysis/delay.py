@@ -46,7 +46,7 @@ from dataclasses import dataclass, field
 
 from ..ir.cells import CELLS, EffortCell, UnitGate
 from ..ir.network import Network
-from ..ir.arrival import Arrival, arrival, output_bits
+from ..ir.arrival import Arrival, arrival, endpoints, starts
 from .skip_timing import has_skip, sensitizable_levels
 
 NOT_ESTIMATED = "the network holds ADD cells (Verilog +), whose structure the synthesis tool chooses"
@@ -71,7 +71,7 @@ def has_add(net: Network) -> bool:
     return any(n.op in ("ADD", "PICK") for n in net.nodes)
 
 
-_outputs = output_bits
+_outputs = endpoints  # output bits, and register data inputs in a pipelined network
 
 
 def _name(net: Network, i: int) -> str:
@@ -174,7 +174,7 @@ def logical_effort(net: Network, model: EffortModel = DEFAULT_MODEL) -> dict | N
         if n.op == "CONST":
             continue
         timed = [a for a in n.args if nodes[a].op != "CONST"]
-        if n.op == "INPUT" or not timed:
+        if starts(n) or not timed:  # an input bit or a register output: a path starts here
             live[i] = _Front({(0, 0): 0.0})
             continue
         cell = model.cells[n.op]

@@ -21,7 +21,7 @@ from collections import Counter
 
 from ..ir.cells import GATES, cost_of, levels_of
 from ..ir.network import Network
-from ..ir.arrival import arrival, output_bits
+from ..ir.arrival import arrival, endpoints
 from .skip_timing import sensitizable_levels
 
 LEFT_TO_SYNTHESIS = "n/a: left to synthesis"  # how the netlist figures of a Verilog `+` are shown
@@ -38,7 +38,7 @@ def depth(net: Network) -> list[int]:
 
 def gate_levels(net: Network) -> int:
     a = arrival(net, _levels)
-    end = a.latest(output_bits(net))
+    end = a.latest(endpoints(net))
     return a.times[end] if end >= 0 else 0
 
 

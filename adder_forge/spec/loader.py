@@ -11,6 +11,7 @@ import yaml
 
 from ..base.errors import SpecError
 from ..base.keywords import BUILTIN_NAMES, RESERVED
+from .pipeline import COMBINATIONAL, Pipeline, parse_pipeline
 from .registry import MAX_WIDTH, Option, bool_option, schemes, shown, suggest, type_name, yaml11_hint
 
 _IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
@@ -27,7 +28,7 @@ MAX_NAME = 128  # file names are the name plus a suffix; most file systems stop 
 MAX_SPEC_BYTES = 16 << 20  # a spec is a few lines; this bounds what a mistaken path can make us read
 
 # Keys every spec may carry; a scheme declares the rest (registry.Option).
-COMMON_KEYS = ("name", "width", "scheme", "carry_in", "carry_out")
+COMMON_KEYS = ("name", "width", "scheme", "carry_in", "carry_out", "pipeline")
 
 
 @dataclass(frozen=True)
@@ -40,6 +41,7 @@ class Spec:
     options: tuple[tuple[str, Any], ...] = ()  # the scheme's own keys, defaults filled in, in declared order
     source: str = "<spec>"
     positions: tuple[tuple[str, int, int], ...] = ()  # key -> (line, col) of its value, 1-based
+    pipeline: Pipeline = COMBINATIONAL  # register ranks and their clocking (spec/pipeline.py)
 
     def opt(self, key: str, default: Any = None) -> Any:
         for k, v in self.options:
@@ -68,6 +70,8 @@ class Spec:
                              "carry_in": self.carry_in, "carry_out": self.carry_out}
         for k, v in self.options:
             d[k] = _plain(v)
+        if self.pipeline.clocked:
+            d["pipeline"] = self.pipeline.to_dict()
         return d
 
 
@@ -226,6 +230,11 @@ def parse_spec(text: str, source: str = "<spec>") -> Spec:
                             vnode.start_mark.column + 1, key) from None
         pos[key] = (vnode.start_mark.line + 1, vnode.start_mark.column + 1)
         key_pos[key] = (kl, kc)
+        if isinstance(vnode, yaml.MappingNode):  # nested keys (pipeline.stages) get places of their own
+            for sub_k, sub_v in vnode.value:
+                if isinstance(sub_k, yaml.ScalarNode):
+                    pos[f"{key}.{sub_k.value}"] = (sub_v.start_mark.line + 1, sub_v.start_mark.column + 1)
+                    key_pos[f"{key}.{sub_k.value}"] = (sub_k.start_mark.line + 1, sub_k.start_mark.column + 1)
     return from_mapping(data, source, pos, key_pos)
 
 
@@ -307,8 +316,13 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
         else:
             options.append((o.key, o.default))
 
-    positions = tuple((k, *pos[k]) for k in data if k in pos)
-    spec = Spec(name, width, scheme_name, flags["carry_in"], flags["carry_out"], tuple(options), source, positions)
+    def fail_nested(key: str, message: str, at_key: bool = False):
+        fail_at(key if key in pos else "pipeline", message, at_key)
+
+    pipe = parse_pipeline(data.get("pipeline"), fail_nested)
+    positions = tuple((k, *pos[k]) for k in pos if k in data or k.startswith("pipeline."))
+    spec = Spec(name, width, scheme_name, flags["carry_in"], flags["carry_out"], tuple(options), source, positions,
+                pipe)
     if sch.check is not None:
         sch.check(spec)
     return spec

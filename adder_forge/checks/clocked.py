@@ -1,0 +1,205 @@
+"""The built-in check of a pipelined adder, cycle by cycle: a new vector at every clock edge, each result
+compared K edges later against Python integer addition.
+
+The evaluator runs many copies of the pipeline side by side: one bit lane of a uint64 word is one copy,
+and ``lanes`` copies each take their own stream of the plan's vectors (copy j gets vectors j, j + lanes,
+j + 2 lanes, ... on consecutive edges), so every copy is driven back to back. A cycle is one call of the
+evaluator with the registers' outputs as ``state``; at the edge, every register takes its data input (or
+holds, where the enable is low, or clears on reset).
+
+What it exercises beyond the adder's function:
+- latency exactly K: after the m-th loading edge the outputs must equal the result of the vector applied
+  at loading edge m - K + 1 (a result one cycle early or late is a mismatch);
+- the registers start with arbitrary contents (seeded random words): nothing may leak out once K loading
+  edges have passed;
+- with a clock enable: every 13th cycle is a stall (en = 0), during which the inputs carry other values
+  (the complement of the next vector) that must not be taken, and the outputs must hold;
+- with a reset: rst is held active for the first two cycles, and the outputs must read 0 (every register
+  cleared) during the reset (async) or after its first edge (sync).
+"""
+
+from __future__ import annotations
+
+from collections import deque
+
+import numpy as np
+
+from ..ir.network import Network
+from ..ir.pipeline import clocking, registers
+from ..emit.vectors import Plan, VectorSet, expected, input_planes, plane_bit, to_planes, valid_mask
+
+MAX_LANES = 4096  # pipeline copies side by side (64 words): wide enough to be fast
+MIN_CYCLES = 64  # ... and narrow enough that every copy sees a stream of at least this many vectors
+STALL_EVERY, STALL_AT = 13, 5  # with an enable: cycles c with c % 13 == 5 are stalls
+RESET_CYCLES = 2
+
+
+def lanes_for(count: int) -> int:
+    lanes = (count // MIN_CYCLES) // 64 * 64
+    return max(64, min(MAX_LANES, lanes))
+
+
+def _pieces(plan: Plan, lanes: int, chunk: int):
+    """The plan's vectors regrouped into pieces of ``lanes`` vectors (the last may be short)."""
+    carry: list[VectorSet] = []
+    held = 0
+    for vs in plan.chunks(chunk):
+        start = 0
+        while start < len(vs):
+            need = lanes - held
+            part = vs.part(start, min(len(vs), start + need))
+            start += len(part)
+            if held == 0 and len(part) == lanes:
+                yield part
+                continue
+            carry.append(part)
+            held += len(part)
+            if held == lanes:
+                yield _join(carry)
+                carry, held = [], 0
+    if carry:
+        yield _join(carry)
+
+
+def _join(parts: list[VectorSet]) -> VectorSet:
+    if len(parts) == 1:
+        return parts[0]
+    first = parts[0]
+    return VectorSet(first.width, np.concatenate([p.a for p in parts]), np.concatenate([p.b for p in parts]),
+                     np.concatenate([p.cin for p in parts]))
+
+
+def _pad(planes: np.ndarray, words: int) -> np.ndarray:
+    if planes.shape[1] == words:
+        return planes
+    out = np.zeros((planes.shape[0], words), dtype=np.uint64)
+    out[:, : planes.shape[1]] = planes
+    return out
+
+
+def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1, task=None):
+    """Check every vector of ``plan`` through the pipelined ``net`` (see the module docstring); returns
+    ``(vectors, failures, first Mismatch or None, detail)``."""
+    from .builtin import Mismatch, out_bits
+    from .evaluate import Evaluator
+
+    cfg = clocking(net)
+    k = cfg.stages
+    lanes = lanes_for(plan.count)
+    words = lanes // 64
+    ev = Evaluator(net)
+    has_cin = net.port("cin") is not None
+    nbits = out_bits(net)
+    rng = np.random.default_rng(seed)
+    state = {i: rng.integers(0, 1 << 63, words, dtype=np.uint64) << np.uint64(1) | rng.integers(0, 2, words,
+             dtype=np.uint64) for i in registers(net)}
+    ones = np.full(words, np.uint64(0xFFFFFFFFFFFFFFFF))
+    zeros = np.zeros(words, dtype=np.uint64)
+    active, idle = (zeros, ones) if cfg.reset_level == "low" else (ones, zeros)
+
+    in_flight: deque = deque()  # (VectorSet, expected planes) of loaded vectors not compared yet
+    edges = 0
+    failed = 0
+    first = None
+    total = 0
+    compared = 0
+    notes: list[str] = []
+
+    def control(cycle: int, en: bool, rst: bool) -> dict[str, np.ndarray]:
+        c = {"clk": zeros}
+        if cfg.enable:
+            c["en"] = ones if en else zeros
+        if cfg.reset != "none":
+            c["rst"] = (active if rst else idle).reshape(1, -1)
+        c["clk"] = c["clk"].reshape(1, -1)
+        if "en" in c:
+            c["en"] = c["en"].reshape(1, -1)
+        return c
+
+    def outputs(planes: dict) -> np.ndarray:
+        got = planes["sum"]
+        if "cout" in planes:
+            got = np.concatenate([got, planes["cout"]])
+        return got
+
+    def clock(inputs: dict, en: bool, rst: bool) -> np.ndarray:
+        """One cycle: the outputs during it, then the edge."""
+        nonlocal state
+        if rst and cfg.reset == "async":
+            state = {i: zeros for i in state}
+        nxt: dict = {}
+        got = outputs(ev.run(inputs, state, nxt))
+        if rst:
+            state = {i: zeros for i in state}
+        elif en:
+            state = nxt
+        return got
+
+    cycle = 0
+    if cfg.reset != "none":
+        junk = {"a": np.zeros((net.width, words), np.uint64), "b": np.zeros((net.width, words), np.uint64)}
+        if has_cin:
+            junk["cin"] = np.zeros((1, words), np.uint64)
+        for r in range(RESET_CYCLES):
+            got = clock({**junk, **control(cycle, True, True)}, True, True)
+            if (cfg.reset == "async" or r > 0) and np.bitwise_or.reduce(got, axis=None):
+                failed += 1
+                notes.append(f"outputs not 0 during reset (cycle {cycle})")
+            cycle += 1
+
+    def compare(got: np.ndarray) -> None:
+        nonlocal failed, first, compared
+        vs, want = in_flight[0]
+        diff = np.bitwise_or.reduce(got[:, : want.shape[1]] ^ want, axis=0) & valid_mask(len(vs))
+        bad = int(np.bitwise_count(diff).sum())
+        if bad:
+            failed += bad
+            if first is None:
+                word = int(np.flatnonzero(diff)[0])
+                bits = int(diff[word])
+                lane = word * 64 + ((bits & -bits).bit_length() - 1)
+                a, b, cin = vs.ints(lane)
+                first = Mismatch(a, b, cin, plane_bit(want, lane), plane_bit(got, lane))
+
+    def step(piece: VectorSet | None) -> None:
+        """One loading edge for ``piece`` (None: a flush cycle), after any stall cycles before it."""
+        nonlocal cycle, edges, compared
+        while True:
+            stall = cfg.enable and cycle % STALL_EVERY == STALL_AT
+            if piece is not None:
+                planes = {n: _pad(p, words) for n, p in input_planes(piece, has_cin).items()}
+            else:
+                planes = {"a": np.zeros((net.width, words), np.uint64), "b": np.zeros((net.width, words), np.uint64)}
+                if has_cin:
+                    planes["cin"] = np.zeros((1, words), np.uint64)
+            if stall:  # other values on the inputs: a stalled pipeline must not take them
+                planes = {n: ~p for n, p in planes.items()}
+            got = clock({**planes, **control(cycle, not stall, False)}, not stall, False)
+            if edges >= k and in_flight:
+                compare(got)
+                if not stall:
+                    in_flight.popleft()
+                    compared += 1
+            cycle += 1
+            if not stall:
+                break
+        edges += 1
+        if piece is not None:
+            in_flight.append((piece, to_planes(expected(piece), nbits)))
+
+    for piece in _pieces(plan, lanes, chunk):
+        total += len(piece)
+        step(piece)
+        if task is not None:
+            task.advance(len(piece))
+    while in_flight:
+        step(None)
+    detail = (f"{plan.describe()}; cycle by cycle, {lanes} pipelines side by side, a new vector every edge, "
+              f"each result {k} cycle{'s' if k != 1 else ''} later")
+    if cfg.enable:
+        detail += f", a stall every {STALL_EVERY} cycles"
+    if cfg.reset != "none":
+        detail += f", {cfg.reset} reset first"
+    if notes:
+        detail += "; " + "; ".join(notes)
+    return total, failed, first, detail
