@@ -25,7 +25,9 @@ from collections import deque
 import numpy as np
 
 from ..ir.network import Network
+from ..ir.cells import register_fields
 from ..ir.pipeline import clocking, registers
+from ..spec.pipeline import Pipeline
 from ..emit.vectors import Plan, VectorSet, expected, input_planes, plane_bit, to_planes, valid_mask
 
 MAX_LANES = 4096  # pipeline copies side by side (64 words): wide enough to be fast
@@ -77,25 +79,32 @@ def _pad(planes: np.ndarray, words: int) -> np.ndarray:
     return out
 
 
-def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1, task=None):
+def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1, task=None,
+                  cfg: Pipeline | None = None):
     """Check every vector of ``plan`` through the pipelined ``net`` (see the module docstring); returns
-    ``(vectors, failures, first Mismatch or None, detail)``."""
+    ``(vectors, failures, first Mismatch or None, detail)``. ``cfg`` is what the adder promises (latency,
+    enable, reset: the spec's); each register behaves as its own cell says, so a register that ignores the
+    enable or the reset shows up as a mismatch."""
     from .builtin import Mismatch, out_bits
     from .evaluate import Evaluator
 
-    cfg = clocking(net)
+    cfg = cfg or clocking(net)
     k = cfg.stages
+    kinds = {i: register_fields(net.nodes[i].param) for i in registers(net)}
     lanes = lanes_for(plan.count)
     words = lanes // 64
     ev = Evaluator(net)
     has_cin = net.port("cin") is not None
     nbits = out_bits(net)
     rng = np.random.default_rng(seed)
-    state = {i: rng.integers(0, 1 << 63, words, dtype=np.uint64) << np.uint64(1) | rng.integers(0, 2, words,
+    state: dict = {i: rng.integers(0, 1 << 63, words, dtype=np.uint64) << np.uint64(1) | rng.integers(0, 2, words,
              dtype=np.uint64) for i in registers(net)}
     ones = np.full(words, np.uint64(0xFFFFFFFFFFFFFFFF))
     zeros = np.zeros(words, dtype=np.uint64)
     active, idle = (zeros, ones) if cfg.reset_level == "low" else (ones, zeros)
+    if cfg.enable != ("en" in {p.name for p in net.inputs}) or (cfg.reset != "none") != ("rst" in
+                                                                                         {p.name for p in net.inputs}):
+        raise ValueError(f"{net.name}: the ports do not match the clocking {cfg.describe()}")
 
     in_flight: deque = deque()  # (VectorSet, expected planes) of loaded vectors not compared yet
     edges = 0
@@ -123,16 +132,24 @@ def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1,
         return got
 
     def clock(inputs: dict, en: bool, rst: bool) -> np.ndarray:
-        """One cycle: the outputs during it, then the edge."""
-        nonlocal state
-        if rst and cfg.reset == "async":
-            state = {i: zeros for i in state}
+        """One cycle with en and rst driven as given (rst: the reset asserted at the spec's level): the
+        outputs during it, then the edge, each register as its cell says."""
+        pin = (cfg.reset_level == "high") == rst  # the value on the rst pin
+        pin_en = en or not cfg.enable  # a design without the port sees no stall
+
+        def clears(f) -> bool:
+            return f.reset != "none" and pin == (f.reset_level == "high")
+
+        for i, f in kinds.items():
+            if f.reset == "async" and clears(f):
+                state[i] = zeros
         nxt: dict = {}
         got = outputs(ev.run(inputs, state, nxt))
-        if rst:
-            state = {i: zeros for i in state}
-        elif en:
-            state = nxt
+        for i, f in kinds.items():
+            if clears(f):
+                state[i] = zeros
+            elif pin_en or not f.enable:
+                state[i] = nxt[i]
         return got
 
     cycle = 0

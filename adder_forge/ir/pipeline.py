@@ -243,3 +243,34 @@ def stage_levels(net: Network) -> list[int]:
         r = register_fields(net.nodes[i].param).rank
         worst[r - 1] = max(worst[r - 1], a.times[net.nodes[i].args[0]] or 0)
     return worst
+
+
+def register_depths(net: Network) -> list[int | None]:
+    """How many registers lie on the paths into each node (None: a constant). Raises ValueError where two
+    paths into one cell cross different numbers of registers (a pipeline that mixes cycles), or where a
+    register's rank is not its depth."""
+    depth: list[int | None] = [None] * len(net.nodes)
+    for i, n in enumerate(net.nodes):
+        if n.op == "INPUT":
+            depth[i] = 0
+            continue
+        seen = {depth[a] for a in n.args if depth[a] is not None}
+        if len(seen) > 1:
+            raise ValueError(f"{net.name}: node {n.name or i} reads values of different cycles {sorted(seen)}")
+        d = seen.pop() if seen else None
+        if CELLS[n.op].kind == "register":
+            d = (d or 0) + 1
+            if register_fields(n.param).rank != d:
+                raise ValueError(f"{net.name}: register {n.name} has rank {register_fields(n.param).rank} but "
+                                 f"sits behind {d} registers")
+        depth[i] = d
+    return depth
+
+
+def latency_of(net: Network) -> int:
+    """The registers on every input-to-output path, the same on all of them (ValueError if not)."""
+    depth = register_depths(net)
+    seen = {depth[b] for b in output_bits(net) if depth[b] is not None}
+    if len(seen) > 1:
+        raise ValueError(f"{net.name}: outputs come out after different numbers of cycles {sorted(seen)}")
+    return seen.pop() if seen else 0
