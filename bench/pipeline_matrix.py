@@ -49,7 +49,10 @@ def main(argv: list[str]) -> int:
     designs = [emit_design(s, tb_random=1000, seed=7) for s in todo]
     t = time.perf_counter()
     with tempfile.TemporaryDirectory(prefix="adder_forge_pipe_") as tmp:
-        results = verify(designs, ["icarus", "verilator"], True, 4096, 7, workdir=Path(tmp))
+        verdicts = verify(designs, ["icarus", "verilator"], True, 4096, 7, workdir=Path(tmp))
+    results = verdicts.outcomes
+    if verdicts.stopped is not None:
+        print(f"STOPPED {verdicts.stopped.name} {verdicts.stopped.checker}: {verdicts.stopped.error}", flush=True)
     seconds = time.perf_counter() - t
     rows, bad = [], 0
     by_name: dict[str, dict] = {}

@@ -1,5 +1,5 @@
 """The built-in check of a pipelined adder, cycle by cycle: a new vector at every clock edge, each result
-compared K edges later against Python integer addition.
+compared K edges later against the interface's reference (Python integer arithmetic).
 
 The evaluator runs many copies of the pipeline side by side: one bit lane of a uint64 word is one copy,
 and ``lanes`` copies each take their own stream of the plan's vectors (copy j gets vectors j, j + lanes,
@@ -26,9 +26,9 @@ import numpy as np
 
 from ..ir.network import Network
 from ..ir.cells import register_fields
-from ..ir.pipeline import clocking, registers
+from ..ir.pipeline import registers
 from ..spec.pipeline import Pipeline
-from ..emit.vectors import Plan, VectorSet, expected, input_planes, plane_bit, to_planes, valid_mask
+from ..emit.vectors import Plan, VectorSet, expected, iface_planes, plane_bit, to_planes, valid_mask
 
 MAX_LANES = 4096  # pipeline copies side by side (64 words): wide enough to be fast
 MIN_CYCLES = 64  # ... and narrow enough that every copy sees a stream of at least this many vectors
@@ -67,8 +67,9 @@ def _join(parts: list[VectorSet]) -> VectorSet:
     if len(parts) == 1:
         return parts[0]
     first = parts[0]
+    sub = None if first.sub is None else np.concatenate([p.sub for p in parts])
     return VectorSet(first.width, np.concatenate([p.a for p in parts]), np.concatenate([p.b for p in parts]),
-                     np.concatenate([p.cin for p in parts]))
+                     np.concatenate([p.cin for p in parts]), None, sub)
 
 
 def _pad(planes: np.ndarray, words: int) -> np.ndarray:
@@ -85,17 +86,18 @@ def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1,
     ``(vectors, failures, first Mismatch or None, detail)``. ``cfg`` is what the adder promises (latency,
     enable, reset: the spec's); each register behaves as its own cell says, so a register that ignores the
     enable or the reset shows up as a mismatch."""
-    from .builtin import Mismatch, out_bits
+    from .builtin import mismatch
     from .evaluate import Evaluator
 
-    cfg = cfg or clocking(net)
+    iface = net.iface
+    cfg = cfg or iface.clocking
     k = cfg.stages
     kinds = {i: register_fields(net.nodes[i].param) for i in registers(net)}
     lanes = lanes_for(plan.count)
     words = lanes // 64
     ev = Evaluator(net)
-    has_cin = net.port("cin") is not None
-    nbits = out_bits(net)
+    nbits = iface.out_bits
+    data = [p for p in iface.inputs]  # a, b, then cin and sub where present
     rng = np.random.default_rng(seed)
     state: dict = {i: rng.integers(0, 1 << 63, words, dtype=np.uint64) << np.uint64(1) | rng.integers(0, 2, words,
              dtype=np.uint64) for i in registers(net)}
@@ -126,10 +128,10 @@ def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1,
         return c
 
     def outputs(planes: dict) -> np.ndarray:
-        got = planes["sum"]
-        if "cout" in planes:
-            got = np.concatenate([got, planes["cout"]])
-        return got
+        return np.concatenate([planes[p.name] for p in iface.outputs])
+
+    def zero_inputs() -> dict[str, np.ndarray]:
+        return {p.name: np.zeros((p.width, words), np.uint64) for p in data}
 
     def clock(inputs: dict, en: bool, rst: bool) -> np.ndarray:
         """One cycle with en and rst driven as given (rst: the reset asserted at the spec's level): the
@@ -154,9 +156,7 @@ def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1,
 
     cycle = 0
     if cfg.reset != "none":
-        junk = {"a": np.zeros((net.width, words), np.uint64), "b": np.zeros((net.width, words), np.uint64)}
-        if has_cin:
-            junk["cin"] = np.zeros((1, words), np.uint64)
+        junk = zero_inputs()
         for r in range(RESET_CYCLES):
             got = clock({**junk, **control(cycle, True, True)}, True, True)
             if (cfg.reset == "async" or r > 0) and np.bitwise_or.reduce(got, axis=None):
@@ -175,8 +175,7 @@ def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1,
                 word = int(np.flatnonzero(diff)[0])
                 bits = int(diff[word])
                 lane = word * 64 + ((bits & -bits).bit_length() - 1)
-                a, b, cin = vs.ints(lane)
-                first = Mismatch(a, b, cin, plane_bit(want, lane), plane_bit(got, lane))
+                first = mismatch(iface, vs.values(lane), plane_bit(got, lane))
 
     def step(piece: VectorSet | None) -> None:
         """One loading edge for ``piece`` (None: a flush cycle), after any stall cycles before it."""
@@ -184,11 +183,9 @@ def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1,
         while True:
             stall = cfg.enable and cycle % STALL_EVERY == STALL_AT
             if piece is not None:
-                planes = {n: _pad(p, words) for n, p in input_planes(piece, has_cin).items()}
+                planes = {n: _pad(p, words) for n, p in iface_planes(piece, iface).items()}
             else:
-                planes = {"a": np.zeros((net.width, words), np.uint64), "b": np.zeros((net.width, words), np.uint64)}
-                if has_cin:
-                    planes["cin"] = np.zeros((1, words), np.uint64)
+                planes = zero_inputs()
             if stall:  # other values on the inputs: a stalled pipeline must not take them
                 planes = {n: ~p for n, p in planes.items()}
             got = clock({**planes, **control(cycle, not stall, False)}, not stall, False)
@@ -202,7 +199,7 @@ def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1,
                 break
         edges += 1
         if piece is not None:
-            in_flight.append((piece, to_planes(expected(piece), nbits)))
+            in_flight.append((piece, to_planes(expected(piece, iface), nbits)))
 
     for piece in _pieces(plan, lanes, chunk):
         total += len(piece)
