@@ -165,12 +165,13 @@ def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1,
             cycle += 1
 
     def compare(got: np.ndarray) -> None:
-        nonlocal failed, first, compared
-        vs, want = in_flight[0]
+        """The outputs against the oldest vector in flight; a lane that fails once (at its loading edge, or
+        holding through a stall) counts once, when the vector leaves."""
+        nonlocal first
+        vs, want, seen = in_flight[0]
         diff = np.bitwise_or.reduce(got[:, : want.shape[1]] ^ want, axis=0) & valid_mask(len(vs))
-        bad = int(np.bitwise_count(diff).sum())
-        if bad:
-            failed += bad
+        seen |= diff
+        if diff.any():
             if first is None:
                 word = int(np.flatnonzero(diff)[0])
                 bits = int(diff[word])
@@ -179,7 +180,7 @@ def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1,
 
     def step(piece: VectorSet | None) -> None:
         """One loading edge for ``piece`` (None: a flush cycle), after any stall cycles before it."""
-        nonlocal cycle, edges, compared
+        nonlocal cycle, edges, compared, failed
         while True:
             stall = cfg.enable and cycle % STALL_EVERY == STALL_AT
             if piece is not None:
@@ -192,14 +193,14 @@ def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1,
             if edges >= k and in_flight:
                 compare(got)
                 if not stall:
-                    in_flight.popleft()
+                    failed += int(np.bitwise_count(in_flight.popleft()[2]).sum())
                     compared += 1
             cycle += 1
             if not stall:
                 break
         edges += 1
         if piece is not None:
-            in_flight.append((piece, to_planes(expected(piece, iface), nbits)))
+            in_flight.append((piece, to_planes(expected(piece, iface), nbits), np.zeros(words, np.uint64)))
 
     for piece in _pieces(plan, lanes, chunk):
         total += len(piece)

@@ -250,13 +250,13 @@ def emit_testbench(name: str, iface, count: int, plan: str) -> str:
     """The VHDL testbench over the Verilog testbench's vectors file, generic over the interface's ports."""
     from ..base.version import __version__
     from .templating import render
-    from .testbench import STEP, line_bits, port_fields
+    from .testbench import STEP, clocked_fields, line_bits, port_fields
 
     digits = (line_bits(iface) + 3) // 4  # as testbench.vector_lines writes them
     inputs, outputs = port_fields(iface)
     return render("testbench.vhd.j2", name=name, count=count, digits=digits, inputs=inputs, outputs=outputs,
                   in_bits=iface.in_bits, out_bits=iface.out_bits, claim=iface.claim(), step=STEP, plan=plan,
-                  version=__version__, std=STD)
+                  version=__version__, std=STD, clock=clocked_fields(iface))
 
 
 def vhdl_files(d) -> dict[str, str]:
