@@ -25,7 +25,7 @@ from collections import Counter
 
 from ..ir.cells import GATES, cost_of, levels_of
 from ..ir.network import Network
-from ..ir.pipeline import latency_of, registers, stage_levels
+from ..ir.pipeline import registers, stage_levels
 from ..ir.arrival import arrival, endpoints
 from .skip_timing import sensitizable_levels
 
@@ -89,7 +89,7 @@ def metrics(net: Network) -> dict:
         prefix.update(prefix_figures(net.prefix))
     m.update(prefix)
     if registers(net):  # a pipelined adder: netlist_levels above is its longest stage
-        m["pipeline_latency_cycles"] = latency_of(net)
+        m["pipeline_latency_cycles"] = net.iface.latency
         m["pipeline_stage_levels"] = stage_levels(net)
         m["pipeline_registers"] = len(registers(net))
     return m

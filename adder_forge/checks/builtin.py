@@ -102,7 +102,7 @@ def check(net: Network, plan: Plan, chunk: int = 1 << 20, workers: int | None = 
             from .clocked import check_clocked
 
             total, failed, first, detail = check_clocked(net, plan, chunk, task=task)
-            return CheckResult("builtin", total, failed, first, detail)
+            return CheckResult("builtin", total, failed, first and mismatch(net.iface, *first), detail)
         if plan.exhaustive and plan.width >= 6 and _bitsliced_fits(net.iface):
             return _check_bitsliced(net, plan, workers, task)
         return _check_streamed(net, plan, chunk, workers, task)

@@ -83,10 +83,9 @@ def _pad(planes: np.ndarray, words: int) -> np.ndarray:
 def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1, task=None,
                   cfg: Pipeline | None = None):
     """Check every vector of ``plan`` through the pipelined ``net`` (see the module docstring); returns
-    ``(vectors, failures, first Mismatch or None, detail)``. ``cfg`` is what the adder promises (latency,
-    enable, reset: the spec's); each register behaves as its own cell says, so a register that ignores the
-    enable or the reset shows up as a mismatch."""
-    from .builtin import mismatch
+    ``(vectors, failures, first failure as (input values, outputs got) or None, detail)``. ``cfg`` is what
+    the adder promises (latency, enable, reset: the interface's); each register behaves as its own cell
+    says, so a register that ignores the enable or the reset shows up as a mismatch."""
     from .evaluate import Evaluator
 
     iface = net.iface
@@ -176,7 +175,7 @@ def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1,
                 word = int(np.flatnonzero(diff)[0])
                 bits = int(diff[word])
                 lane = word * 64 + ((bits & -bits).bit_length() - 1)
-                first = mismatch(iface, vs.values(lane), plane_bit(got, lane))
+                first = (vs.values(lane), plane_bit(got, lane))
 
     def step(piece: VectorSet | None) -> None:
         """One loading edge for ``piece`` (None: a flush cycle), after any stall cycles before it."""

