@@ -71,8 +71,8 @@ def clocked_claim(net: Network) -> str:
     if not cfg.clocked:
         return ""
     held = [x for x in ("en high" if cfg.enable else "", "rst inactive" if cfg.reset != "none" else "") if x]
-    return (f" {cfg.stages} clock edge{'s' if cfg.stages != 1 else ''} after the operands, from any register "
-            f"contents" + (f" ({', '.join(held)})" if held else ""))
+    return (f", {cfg.stages} clock edge{'s' if cfg.stages != 1 else ''} after the operands from any register "
+            f"contents" + (f" ({', '.join(held)})" if held else "") + ",")
 
 
 def reference_module(net: Network, name: str = GOLD) -> str:
