@@ -86,11 +86,13 @@ def test_all_brings_every_registered_scheme_and_network():
     assert seen == set(SCHEMES)  # nothing left out silently; new schemes appear without code changes
     from adder_forge.schemes.prefix_networks import NETWORKS
 
+    choices = next(o.choices for o in SCHEMES["prefix"].options if o.key == "prefix")
+    assert set(NETWORKS) <= set(choices)
     nets = {p.spec.opt("prefix") for p in sw.points if p.spec.scheme == "prefix"}
     skipped = {s.label.split()[1] for s in sw.skipped if s.label.startswith("prefix ")}
-    assert nets | skipped == set(NETWORKS) and not nets & skipped
-    for s in sw.skipped:  # only what needs keys of its own (Harris's [l, f, t], Knowles's fanouts)
-        assert "needs" in s.reason
+    assert nets | skipped == set(choices) and not nets & skipped
+    for s in sw.skipped:  # only what needs keys of its own (Harris's [l, f, t], Knowles's fanouts, a file)
+        assert "needs" in s.reason, s
 
 
 def test_a_width_beyond_a_scheme_limit_is_skipped_and_said():
