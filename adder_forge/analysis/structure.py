@@ -75,7 +75,8 @@ def metrics(net: Network) -> dict:
         m["notes"].append(f"netlist figures {LEFT_TO_SYNTHESIS}: Verilog + becomes whatever the synthesis tool "
                           "chooses; report --synth measures it")
     prefix = {"prefix_nodes": None, "prefix_black": None, "prefix_gray": None, "prefix_levels": None,
-              "prefix_fanout": None, "wire_tracks": None}
+              "prefix_fanout": None, "wire_tracks": None, "prefix_depth": None, "prefix_snir_gap": None,
+              "prefix_min_gap": None}
     if net.prefix is not None:
         from .prefix_figures import prefix_figures
 
