@@ -5,7 +5,7 @@ adder_forge is imported)."""
 from ..ir.pipeline import pipeline
 from ..spec.registry import SCHEMES
 from . import (behavioral, block_lookahead, carry_select, carry_skip, conditional_sum,  # noqa: F401
-               lookahead, prefix, ripple)
+               lookahead, prefix, ripple, chain_prefix, chain_select)
 
 
 def elaborate(spec):
