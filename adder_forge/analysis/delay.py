@@ -57,7 +57,7 @@ from dataclasses import dataclass, field
 
 from ..ir.cells import CELLS, EffortCell, UnitGate, add_width
 from ..ir.network import Network
-from ..ir.arrival import Arrival, arrival, endpoints, output_bits, starts
+from ..ir.arrival import Arrival, arrival, endpoints, starts
 from ..schemes.chain_blocks import FAMILIES, Family
 from .skip_timing import has_skip, sensitizable_levels
 
