@@ -10,9 +10,8 @@ from __future__ import annotations
 import re
 
 from .network import Network, Node, Port, PrefixGraph
-from ..base.keywords import RESERVED
+from ..base.keywords import IDENT, RESERVED
 
-_IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
 _RESERVED = {"a", "b", "cin", "sum", "cout", "clk"} | RESERVED
 
 
@@ -184,7 +183,7 @@ class Builder:
 
 def _unique(name: str, used: set[str]) -> str:
     base = re.sub(r"[^A-Za-z0-9_]", "_", name)
-    if not _IDENT.match(base):
+    if not IDENT.match(base):
         base = "n_" + base
     cand = base
     k = 1
