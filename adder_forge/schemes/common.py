@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from ..ir.builder import Builder
+from ..ir.interface import Interface, of_spec
 from ..ir.network import Network, PrefixGraph
 from ..spec.registry import value_text
 
@@ -20,18 +21,21 @@ class Frame:
     cin: int
     width: int
     spec: object
+    interface: Interface
 
 
 def start(spec) -> Frame:
+    """The input ports of the spec's interface, in its order."""
+    iface = of_spec(spec)
     build = Builder(spec.name)
     a = build.input("a", spec.width)
     b = build.input("b", spec.width)
-    cin = build.input("cin", 1, scalar=True)[0] if spec.carry_in else build.const(0)
+    cin = build.input("cin", 1, scalar=True)[0] if iface.has("cin") else build.const(0)
     build.meta.append(("scheme", spec.scheme))
     for k, v in spec.options:
         if v is not None:  # keys that do not apply to this form (e.g. taxonomy for kogge-stone)
             build.meta.append((k, value_text(v)))
-    return Frame(build, a, b, cin, spec.width, spec)
+    return Frame(build, a, b, cin, spec.width, spec, iface)
 
 
 def generate_propagate(f: Frame) -> tuple[list[int], list[int]]:
@@ -48,9 +52,9 @@ def sum_bits(f: Frame, p: list[int], carries: list[int]) -> list[int]:
 
 def finish(f: Frame, sums: list[int], cout: int, prefix: PrefixGraph | None = None) -> Network:
     f.build.output("sum", sums)
-    if f.spec.carry_out:
+    if f.interface.has("cout"):
         f.build.output("cout", [cout], scalar=True)
-    return f.build.finish(prefix)
+    return f.build.finish(prefix, f.interface)
 
 
 def balanced(b: Builder, op, items: list[int], name: str = "", role: str = "") -> int:
