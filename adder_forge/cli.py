@@ -57,6 +57,7 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("specs", nargs="+", metavar="SPEC")
     r.add_argument("--synth", default="", metavar="FLOWS", help="comma list of generic, lut6, ice40")
     r.add_argument("--out", default="out", metavar="DIR")
+    r.add_argument("--csv", metavar="FILE", help="also write every measurement record (specs and + baselines) to FILE")
     r.add_argument("--force", action="store_true",
                    help="replace output files that adder_forge did not write or that were edited since")
 
@@ -174,14 +175,13 @@ def _sims(values: list[str]) -> list[str]:
 
 def _flows(text: str) -> list[str]:
     """The --synth list: flow names in any case; a bad one gets a suggestion."""
-    from .spec.registry import shown, suggest
-    from .synth.flows import FLOWS
+    from .synth.flows import FLOWS, unknown_flow
 
     out = []
     for given in filter(None, (x.strip() for x in text.split(","))):
         name = given.lower()
         if name not in FLOWS:
-            raise UsageError(f"unknown synthesis flow '{shown(given)}'" + suggest(name, FLOWS), "report", "--synth")
+            raise unknown_flow(given)
         out.append(name)
     return list(dict.fromkeys(out))
 
@@ -227,11 +227,20 @@ def cmd_report(args) -> int:
     from .synth.measure import format_table, measure_specs
 
     flows = _flows(args.synth)
+    csv = Path(args.csv) if args.csv else None
+    if args.csv is not None and not args.csv.strip():
+        raise UsageError("--csv needs a file name", "report", "--csv")
     specs = _load_all(args.specs)
-    results = measure_specs(specs, flows, Path(args.out), progress=_progress(), force=args.force)
+    results = measure_specs(specs, flows, Path(args.out), progress=_progress(), force=args.force, csv=csv)
     print(format_table(results))
-    for r in results:
-        print(f"{r['name']}: figures written to {r['json']}")
+    for m in results:
+        print(f"{m.spec.name}: figures written to {m.json}")
+    if csv is not None:
+        from .emit.summary import plural
+        from .synth.measure import all_records
+
+        print(f"{plural(len(all_records(results)), 'record')} of {plural(len(results), 'spec')} and the + baselines "
+              f"written to {csv}")
     return EXIT_OK
 
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 import sys
 from pathlib import Path
 
@@ -22,11 +23,14 @@ def run_cocotb(d: Design, simulator: str, workdir: Path, random_count: int = 100
     src = workdir / f"{d.spec.name}.v"
     src.write_text(d.verilog, encoding="utf-8")
     sim.require()  # a clear error before cocotb's own
-    env = (("ADDER_FORGE_NAME", d.spec.name), ("ADDER_FORGE_WIDTH", str(d.spec.width)),
-           ("ADDER_FORGE_CARRY_IN", str(int(d.spec.carry_in))), ("ADDER_FORGE_CARRY_OUT", str(int(d.spec.carry_out))),
-           ("ADDER_FORGE_RANDOM", str(random_count)), ("ADDER_FORGE_SEED", str(seed)),
-           ("ADDER_FORGE_EXHAUSTIVE_LIMIT", str(exhaustive_limit)), ("PYTEST_CURRENT_TEST", ""))
+    # the test's parameters, as data: the interface record and the plan (cocotb_bench.load reads them)
+    params = workdir / "cocotb_parameters.json"
+    params.write_text(json.dumps({"name": d.spec.name, "interface": d.net.iface.to_json(),
+                                  "plan": {"exhaustive_limit": exhaustive_limit, "random": random_count,
+                                           "seed": seed}}), encoding="utf-8")
+    env = (("ADDER_FORGE_COCOTB", str(params.resolve())), ("PYTEST_CURRENT_TEST", ""))
     cmd = Command((sys.executable, "-m", "adder_forge.checks.cocotb_run", "--sim", sim.cocotb, "--source", str(src),
-                   "--top", d.spec.name, "--workdir", str(workdir)), str(workdir), env, timeout)
+                   "--top", d.spec.name, "--workdir", str(workdir),
+                   *(f"--build-arg={a}" for a in sim.cocotb_build_args())), str(workdir), env, timeout)
     [o] = read(run(cmd), f"cocotb-{sim.name}", [d.spec.name], ["cocotb test passed"])
     return o

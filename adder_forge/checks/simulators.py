@@ -197,7 +197,7 @@ class Ghdl(Simulator):
 
 
 def batch_top(designs: list[Design]) -> str:
-    longest = max(d.testbench.count for d in designs)
+    longest = max(d.testbench.duration for d in designs)
     inst = "\n".join(f"    {d.spec.name}_tb u{k} ();" for k, d in enumerate(designs))
     done = " && ".join(f"u{k}.done" for k in range(len(designs)))
     bad = " || ".join(f"(u{k}.failed != 0)" for k in range(len(designs)))
@@ -205,7 +205,7 @@ def batch_top(designs: list[Design]) -> str:
 module {BATCH_TOP};
 {inst}
     initial begin
-        #{longest + 2};
+        #{longest};
         if (!({done})) $fatal(1, "batch: a testbench did not finish");
         if ({bad}) $fatal(1, "batch: mismatches");
         $finish;

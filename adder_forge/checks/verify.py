@@ -16,7 +16,8 @@ from typing import Callable
 from ..base.errors import ToolError, UsageError
 from ..base.progress import Progress, as_progress
 from ..emit.design import Design
-from ..emit.vectors import Plan, make_plan, space_bits
+from ..emit.vectors import Plan, plan_for, space_bits
+from ..ir.interface import of_spec
 from ..spec.loader import Spec
 from . import formal as proofs, simulators
 from .builtin import check as builtin_check
@@ -93,14 +94,16 @@ def checker(c):
 def builtin_plan(spec: Spec, random_count: int, seed: int, exhaustive: bool = False) -> Plan:
     """The built-in check's vectors: every input up to ``BUILTIN_EXHAUSTIVE_LIMIT``, else directed and
     random ones; with ``exhaustive``, every input up to ``FORCED_EXHAUSTIVE_LIMIT`` or a SpecError."""
+    iface = of_spec(spec)
     if exhaustive:
-        bits = space_bits(spec.width, spec.carry_in)
+        bits = space_bits(spec.width, iface.has("cin"), iface.has("sub"))
         if 1 << bits > FORCED_EXHAUSTIVE_LIMIT:
-            ports = "with carry-in" if spec.carry_in else "without carry-in"
+            ports = " and ".join(p.name for p in iface.inputs[2:])
+            ports = f"with {ports}" if ports else "without carry-in"
             raise spec.error("width", f"--exhaustive: a {spec.width}-bit adder {ports} has 2^{bits} input "
                                       f"vectors; the limit is 2^33 (a 16-bit adder with carry-in)")
-        return make_plan(spec.width, spec.carry_in, FORCED_EXHAUSTIVE_LIMIT, random_count, seed)
-    return make_plan(spec.width, spec.carry_in, BUILTIN_EXHAUSTIVE_LIMIT, random_count, seed)
+        return plan_for(iface, FORCED_EXHAUSTIVE_LIMIT, random_count, seed)
+    return plan_for(iface, BUILTIN_EXHAUSTIVE_LIMIT, random_count, seed)
 
 
 @checker
