@@ -7,7 +7,7 @@ that needs one registers upstream). Latency is exactly K cycles and a new operan
 every edge.
 
 How stages are cut: the levels L of the combinational network (2-input gate levels, the netlist figure;
-``cells.levels_of``) are shared out as evenly as possible, the first stages taking the remainder (13 over 3
+``cells.cell_levels``) are shared out as evenly as possible, the first stages taking the remainder (13 over 3
 gives budgets 5, 4, 4). Cells are placed in topological order, each as early as it can go: into the latest
 stage of its arguments unless that would take the stage past its budget, then into the next. A cell is
 never split (an AO21 is 2 levels), so a stage may end short of its budget and later ones run over; a second
@@ -29,7 +29,7 @@ from dataclasses import dataclass, replace
 
 from ..spec.pipeline import Pipeline
 from .arrival import arrival, output_bits
-from .cells import CELLS, levels_of, register_fields, register_param
+from .cells import CELLS, cell_levels, register_fields, register_param
 from .network import Network, Node, Port
 
 REGISTER = "DFF"
@@ -49,7 +49,7 @@ class StagePlan:
 
 
 def _levels(i: int, n: Node) -> int:
-    return levels_of(n.op, len(n.args))
+    return cell_levels(n.op, len(n.args))
 
 
 def _place(net: Network, budgets: list[int]) -> tuple[list[int | None], int]:
