@@ -45,10 +45,15 @@ class SimOutcome:
 
 
 def batch_top(designs: list[Design]) -> str:
-    longest = max(d.testbench.count for d in designs)
-    inst = "\n".join(f"    {d.spec.name}_tb u{k} ();" for k, d in enumerate(designs))
-    done = " && ".join(f"u{k}.done" for k in range(len(designs)))
-    bad = " || ".join(f"(u{k}.failed != 0)" for k in range(len(designs)))
+    return batch_top_of([(d.spec.name, d.testbench.count) for d in designs])
+
+
+def batch_top_of(benches: list[tuple[str, int]]) -> str:
+    """The top that runs the testbenches NAME_tb of (NAME, vector count) side by side."""
+    longest = max(count for _, count in benches)
+    inst = "\n".join(f"    {name}_tb u{k} ();" for k, (name, _) in enumerate(benches))
+    done = " && ".join(f"u{k}.done" for k in range(len(benches)))
+    bad = " || ".join(f"(u{k}.failed != 0)" for k in range(len(benches)))
     return f"""`timescale 1ns / 1ps
 module {BATCH_TOP};
 {inst}
@@ -131,6 +136,11 @@ def simulate(designs: list[Design], simulator: str, workdir: Path, timeout: floa
 
 
 def outcomes(designs: list[Design], simulator: str, res: Result) -> list[SimOutcome]:
+    return outcomes_of([(d.spec.name, d.testbench.count) for d in designs], simulator, res)
+
+
+def outcomes_of(benches: list[tuple[str, int]], simulator: str, res: Result) -> list[SimOutcome]:
+    """What each testbench NAME_tb of (NAME, vector count) reported in one simulator run."""
     text = res.stdout + "\n" + res.stderr
     summary = {m.group(1): (int(m.group(2)), int(m.group(3))) for m in _SUMMARY.finditer(text)}
     first: dict[str, str] = {}
@@ -140,11 +150,10 @@ def outcomes(designs: list[Design], simulator: str, res: Result) -> list[SimOutc
     for m in _FILE_ERROR.finditer(text):
         file_error.setdefault(m.group(1), m.group(0))
     out = []
-    for d in designs:
-        n = d.spec.name
+    for n, count in benches:
         passed, failed = summary.get(n, (0, 0))
         if n not in summary:
-            failed = d.testbench.count  # the testbench never reported: count every vector as unchecked
+            failed = count  # the testbench never reported: count every vector as unchecked
         log = file_error.get(n) or res.tail(10)  # in a batch, the tail may belong to another design
         out.append(SimOutcome(n, simulator, passed, failed, first.get(n), res.returncode, log))
     return out

@@ -179,8 +179,11 @@ class Testbench:
 
 
 def emit_testbench(name: str, width: int, carry_in: bool, carry_out: bool, plan: Plan, max_bytes: int,
-                   vectors_file: str | None = None) -> Testbench:
-    """The testbench text and its (lazily made) vectors; ``vectors_file`` is the default file it reads."""
+                   vectors_file: str | None = None, dut: str | None = None, width_param: bool = False) -> Testbench:
+    """The testbench text and its (lazily made) vectors; ``vectors_file`` is the default file it reads.
+
+    ``dut`` names the module under test when it is not ``name`` (a width-parameterized module checked at
+    many widths, one testbench a width); ``width_param`` instantiates it with ``#(.WIDTH(width))``."""
     from .templating import render
 
     pick = Sample.of(plan, max_bytes)
@@ -189,5 +192,6 @@ def emit_testbench(name: str, width: int, carry_in: bool, carry_out: bool, plan:
                   carry_out=carry_out, plan=plan.describe(), version=__version__,
                   vectors_file=vectors_file, selection=pick.describe(),
                   cap=f"{max_bytes / 2**20:g} MiB", line_bytes=pick.line_bytes,
-                  cap_vectors=pick.budget)
+                  cap_vectors=pick.budget, dut_module=dut or name,
+                  dut_params=f" #(.WIDTH({width}))" if width_param else "")
     return Testbench(text, pick.count, plan, carry_out, pick, vectors_file)
