@@ -17,7 +17,7 @@ free to change; import from here. (The names never shadow a layer folder: ``adde
 """
 
 from .base.version import __version__
-from .base.errors import AdderForgeError, OutputConflict, OutputError, SpecError, ToolError, UsageError
+from .base.errors import AdderForgeError, NetworkError, OutputConflict, OutputError, SpecError, ToolError, UsageError
 from .spec.loader import Spec, load_spec, make_spec, parse_spec
 from .spec.registry import schemes as registered_schemes
 from .ir.network import Network, dump
@@ -34,7 +34,7 @@ from .synth.measure import measure_specs as measure, output_folder
 __all__ = [
     "__version__",
     # errors, each with its exit status
-    "AdderForgeError", "SpecError", "UsageError", "ToolError", "OutputError", "OutputConflict",
+    "AdderForgeError", "SpecError", "UsageError", "ToolError", "OutputError", "OutputConflict", "NetworkError",
     # spec
     "Spec", "load_spec", "parse_spec", "make_spec", "registered_schemes",
     # IR

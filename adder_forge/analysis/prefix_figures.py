@@ -15,6 +15,16 @@ Harris 2003 ("A taxonomy of parallel prefix networks", Asilomar) measures them, 
 - ``wire_tracks``: per level, a value driving cells in other columns runs one horizontal wire from its
   column to the farthest of them, tapped on the way (a shared Sklansky wire is one track); tracks are the
   most such wires crossing one boundary between adjacent columns at one level. 0 without lateral wires.
+- ``prefix_depth``: the longest chain of cells (``prefix_eval.depth``), the depth the bounds below use.
+- ``prefix_snir_gap``: cells + depth - (2m - 2) for a network computing all m prefixes of its columns:
+  Snir's bound says it is never negative (Snir 1986, "Depth-size trade-offs for parallel prefix
+  computation", J. Algorithms), and zero-deficiency networks reach 0 (Zhu, Cheng and Graham 2006). m is
+  the inputs, or one less when the top column is dropped (an adder without carry-out); null for a pruned
+  sparse tree, which is not a full prefix network.
+- ``prefix_min_gap``: at depth ceil(log2 m) with m a power of two, cells minus the exact minimum there,
+  3.5 * 2^k - (8.5 + 3.5 (k mod 2)) 2^floor(k/2) + k + 5 at m = 2^k (Sergeev 2013, "On the complexity of
+  parallel prefix circuits", ECCC TR13-041): 31, 74, 167, 364, 773, 1614, 3327 at m = 16 ... 1024. Null
+  at other depths and other m, where no exact minimum is published.
 """
 
 from __future__ import annotations
@@ -22,6 +32,7 @@ from __future__ import annotations
 from collections import defaultdict
 
 from ..ir.network import PrefixGraph
+from .prefix_eval import depth as chain_depth
 
 
 def _col(graph: PrefixGraph, r: int) -> int:
@@ -57,6 +68,39 @@ def tracks(graph: PrefixGraph) -> int:
     return best
 
 
+def sergeev_minimum(m: int) -> int | None:
+    """The fewest cells of a depth-log2 m prefix network on m = 2^k inputs (Sergeev 2013), else None."""
+    if m < 1 or m & (m - 1):
+        return None
+    k = m.bit_length() - 1
+    return (7 * m - (17 + 7 * (k % 2)) * (1 << (k // 2))) // 2 + k + 5
+
+
+def snir_bound(m: int) -> int:
+    """cells + depth >= 2m - 2 for any prefix network on m inputs (Snir 1986); 0 for one input."""
+    return max(0, 2 * m - 2)
+
+
+def full_outputs(graph: PrefixGraph) -> int | None:
+    """m if the graph computes every prefix of columns 0..m-1 and has no cell above them, else None."""
+    low = list(range(graph.inputs))
+    for c in graph.cells:
+        low[c.col] = min(low[c.col], c.low)
+    used = max((c.col for c in graph.cells), default=0) + 1
+    m = graph.inputs if used == graph.inputs or graph.inputs == 1 else max(used, graph.inputs - 1)
+    return m if all(x == 0 for x in low[:m]) else None
+
+
+def bound_gaps(graph: PrefixGraph) -> dict:
+    m = full_outputs(graph)
+    d = chain_depth(graph)
+    cells = len(graph.cells)
+    best = sergeev_minimum(m) if m is not None and d == (m - 1).bit_length() else None
+    return {"prefix_depth": d,
+            "prefix_snir_gap": None if m is None else cells + d - snir_bound(m),
+            "prefix_min_gap": None if best is None else cells - best}
+
+
 def prefix_figures(graph: PrefixGraph) -> dict:
     gray = sum(1 for c in graph.cells if c.gray)
     return {
@@ -66,4 +110,5 @@ def prefix_figures(graph: PrefixGraph) -> dict:
         "prefix_levels": max((c.level for c in graph.cells), default=0),
         "prefix_fanout": fanout(graph),
         "wire_tracks": tracks(graph),
+        **bound_gaps(graph),
     }

@@ -36,6 +36,14 @@ class SpecError(AdderForgeError):
         return str(self)
 
 
+class NetworkError(AdderForgeError, ValueError):
+    """A prefix network that is not legal: bad rows (a gap, a column combined twice, an incomplete column),
+    a family parameter that does not fit the number of inputs, a graph that does not compute its spans.
+    Bad input, exit 2. A spec key or a network file turns it into a SpecError that names the place."""
+
+    exit_status = 2
+
+
 class UsageError(AdderForgeError):
     """A bad command line (an option's value, a name): shown as ``adder-forge COMMAND: error: ...``.
 

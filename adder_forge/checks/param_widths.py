@@ -22,11 +22,13 @@ from pathlib import Path
 from ..base.errors import ToolError
 from ..base.tools import Command, find, run
 from ..emit.design import Design, design
-from ..emit.testbench import Testbench, emit_testbench
-from ..emit.vectors import make_plan
+from ..emit.testbench import emit_testbench
+from ..emit.vectors import plan_for
+from ..schemes import elaborate
 from ..spec.loader import COMMON_KEYS, Spec, make_spec
 from .formal import Proof, prove_all
-from .simulators import BATCH_TOP, SimOutcome, batch_top_of, commands, outcomes_of
+from .outcome import Outcome, outcomes
+from .simulators import BATCH_TOP, Staged, batch_top, get
 
 WIDTHS = (1, 2, 3, 5, 8, 16, 17, 31, 33, 64, 100, 128)  # the issue's list: small, odd, powers of two and beside
 LINT_TOP = "adder_forge_widths"
@@ -35,10 +37,11 @@ TB_RANDOM = 200
 TB_BYTES = 1 << 20
 
 
-def flat_spec(spec: Spec, width: int) -> Spec:
-    """The same adder in the flat form at another width."""
+def flat_spec(spec: Spec, width: int, name: str | None = None) -> Spec:
+    """The same adder in the flat form at another width (and under another name, for a test bench)."""
     keys = {k: v for k, v in spec.to_dict().items() if k not in COMMON_KEYS and v is not None}
-    return make_spec(spec.name, width, spec.scheme, spec.carry_in, spec.carry_out, source=spec.source, **keys)
+    return make_spec(name or spec.name, width, spec.scheme, spec.carry_in, spec.carry_out, source=spec.source,
+                     **keys)
 
 
 def flat_designs(spec: Spec, widths) -> list[Design]:
@@ -49,40 +52,49 @@ def bench_name(spec: Spec, width: int) -> str:
     return f"{spec.name}_w{width}"
 
 
-def testbenches(spec: Spec, widths, seed: int = 1, tb_random: int = TB_RANDOM,
-                limit: int = TB_LIMIT) -> list[tuple[str, Testbench]]:
+def benches(spec: Spec, widths, seed: int = 1, tb_random: int = TB_RANDOM, limit: int = TB_LIMIT) -> list[Design]:
+    """One Design a width whose test bench NAME_w<W>_tb drives NAME #(.WIDTH(W)); its own Verilog is empty
+    (the one parameterized module serves them all)."""
     out = []
     for w in widths:
-        plan = make_plan(w, spec.carry_in, limit, tb_random, seed)
-        n = bench_name(spec, w)
-        out.append((n, emit_testbench(n, w, spec.carry_in, spec.carry_out, plan, TB_BYTES, dut=spec.name,
-                                      width_param=True)))
+        s = flat_spec(spec, w, bench_name(spec, w))
+        net = elaborate(s)
+        plan = plan_for(net.iface, limit, tb_random, seed)
+        tb = emit_testbench(s.name, net.iface, plan, TB_BYTES, dut=spec.name, width_param=True)
+        out.append(Design(s, net, {}, "", tb, plan.describe()))
     return out
 
 
 def simulate(modules: list[tuple[Spec, str]], widths, simulator: str, workdir: Path, seed: int = 1,
-             timeout: float = 3600, tb_random: int = TB_RANDOM, limit: int = TB_LIMIT) -> list[SimOutcome]:
-    """Every width's testbench of every (spec, parameterized Verilog) in one build of ``simulator``; one
+             timeout: float = 3600, tb_random: int = TB_RANDOM, limit: int = TB_LIMIT) -> list[Outcome]:
+    """Every width's test bench of every (spec, parameterized Verilog) in one build of ``simulator``; one
     outcome a module and width, modules first."""
-    workdir = Path(workdir)
-    workdir.mkdir(parents=True, exist_ok=True)
-    files, pairs = [], []
+    folder = Path(workdir)
+    folder.mkdir(parents=True, exist_ok=True)
+    files, all_benches = [], []
     for spec, verilog in modules:
-        (workdir / f"{spec.name}.v").write_text(verilog, encoding="utf-8")
+        (folder / f"{spec.name}.v").write_text(verilog, encoding="utf-8")
         files.append(f"{spec.name}.v")
-        for n, tb in testbenches(spec, widths, seed, tb_random, limit):
-            (workdir / f"{n}_tb.v").write_text(tb.verilog, encoding="utf-8")
-            tb.write_vectors(workdir / tb.vectors_file)
-            files.append(f"{n}_tb.v")
-            pairs.append((n, tb.count))
-    (workdir / f"{BATCH_TOP}.v").write_text(batch_top_of(pairs), encoding="utf-8")
-    build, execute = commands(simulator, files + [f"{BATCH_TOP}.v"], BATCH_TOP, ["ADDER_FORGE_BATCH"], workdir,
-                              timeout)
-    r = run(build)
-    if not r.ok:
-        names = ", ".join(spec.name for spec, _ in modules)
-        raise ToolError(f"{simulator} could not build the testbenches of {names}", r.tail(15))
-    return outcomes_of(pairs, simulator, run(execute))
+        for d in benches(spec, widths, seed, tb_random, limit):
+            (folder / f"{d.spec.name}_tb.v").write_text(d.testbench.verilog, encoding="utf-8")
+            d.testbench.write_vectors(folder / d.testbench.vectors_file)
+            files.append(f"{d.spec.name}_tb.v")
+            all_benches.append(d)
+    (folder / f"{BATCH_TOP}.v").write_text(batch_top(all_benches), encoding="utf-8")
+    sim = get(simulator)(timeout)
+    staged = Staged(folder, (*files, f"{BATCH_TOP}.v"), BATCH_TOP, ("ADDER_FORGE_BATCH",),
+                    tuple(d.spec.name for d in all_benches))
+    steps = sim.steps(staged)
+    for command in steps.build:
+        r = run(command)
+        if not r.ok:
+            names = ", ".join(spec.name for spec, _ in modules)
+            raise ToolError(f"{sim.name} could not build the test benches of {names}", r.tail(15))
+    by_name = {d.spec.name: d for d in all_benches}
+    results = []
+    for step in steps.runs:
+        results += outcomes([by_name[n] for n in step.names], sim.name, run(step.command))
+    return results
 
 
 def lint_top(spec: Spec, widths) -> str:

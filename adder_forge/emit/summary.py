@@ -43,8 +43,24 @@ def netlist_summary(metrics: dict) -> str:
     if metrics.get("netlist_levels_skip_aware") is not None:
         levels = (f"{plural(metrics['netlist_levels_skip_aware'], 'gate level')} skip-aware "
                   f"({metrics['netlist_levels']} structural, through false paths)")
-    return (f"netlist {plural(metrics['netlist_gate_equiv'], 'gate equivalent')} in "
+    text = (f"netlist {plural(metrics['netlist_gate_equiv'], 'gate equivalent')} in "
             f"{plural(metrics['netlist_cells'], 'cell')}, {levels}, max fanout {metrics['netlist_max_fanout']}")
+    if metrics.get("prefix_nodes") is not None:
+        text += (f"; prefix network {plural(metrics['prefix_nodes'], 'cell')}, depth {metrics['prefix_depth']}, "
+                 + bounds_text(metrics))
+    return text
+
+
+def bounds_text(metrics: dict) -> str:
+    """How far the prefix network is from the published bounds, in words (build line and header)."""
+    snir = metrics.get("prefix_snir_gap")
+    if snir is None:
+        return "not a full prefix network (pruned), so no bound applies"
+    text = f"cells + depth {snir} over Snir's bound 2n - 2 (Snir 1986)"
+    best = metrics.get("prefix_min_gap")
+    if best is not None:
+        text += f", {best} cell{'' if best == 1 else 's'} over the exact minimum at this depth (Sergeev 2013)"
+    return text
 
 
 def report(spec: Spec, metrics: dict, extra: dict | None = None, meta=()) -> dict:
@@ -74,7 +90,8 @@ def to_json(d: dict) -> str:
 
 NETLIST_KEYS = ("netlist_gate_equiv", "netlist_cells", "netlist_levels", "netlist_levels_skip_aware",
                 "netlist_max_fanout")
-PREFIX_KEYS = ("prefix_nodes", "prefix_levels", "prefix_fanout", "wire_tracks")
+PREFIX_KEYS = ("prefix_nodes", "prefix_levels", "prefix_fanout", "wire_tracks", "prefix_depth", "prefix_snir_gap",
+               "prefix_min_gap")
 
 
 def header_lines(spec: Spec, metrics: dict, meta=()) -> list[str]:
@@ -88,7 +105,9 @@ def header_lines(spec: Spec, metrics: dict, meta=()) -> list[str]:
         lines.append("netlist (this file as emitted, 2-input gate equivalents and levels): "
                      + ", ".join(f"{k}={metrics[k]}" for k in NETLIST_KEYS if metrics.get(k) is not None))
     if metrics.get("prefix_nodes") is not None:
-        lines.append("prefix network: " + ", ".join(f"{k}={metrics[k]}" for k in PREFIX_KEYS))
+        lines.append("prefix network: " + ", ".join(f"{k}={metrics[k]}" for k in PREFIX_KEYS
+                                                    if metrics.get(k) is not None))
+        lines.append("prefix bounds: " + bounds_text(metrics))
     lines += [f"note: {n}" for n in metrics.get("notes") or []]
     lines.append(CAUTION)
     return lines

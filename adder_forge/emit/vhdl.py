@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import re
 
-from ..ir.cells import add_width
+from ..ir.cells import add_width, vhdl_of
 from ..ir.network import Network
 
 STD = "93c"  # what GHDL is asked to check the files against (VHDL-93 with common relaxations)
@@ -106,16 +106,7 @@ class _Emitter:
 
     def expression(self, i: int) -> str:
         n = self.net.nodes[i]
-        x = [self.operand(a) for a in n.args]
-        if n.op == "NOT":
-            return f"not {x[0]}"
-        if n.op in ("AND2", "OR2", "XOR2", "XNOR2"):
-            return f"{x[0]} {n.op[:-1].lower()} {x[1]}"
-        if n.op == "AO21":
-            return f"({x[0]} and {x[1]}) or {x[2]}"  # VHDL does not mix and/or without parentheses
-        if n.op == "MUX2":
-            return f"{x[2]} when {x[0]} = '1' else {x[1]}"  # args (s, d0, d1)
-        raise ValueError(f"no VHDL expression for {n.op}")
+        return vhdl_of(n.op, [self.operand(a) for a in n.args])
 
     def vector_of(self, nodes: list[int]) -> str | None:
         """The name of a whole std_logic_vector port whose bits 0.. are exactly ``nodes``, else None."""
@@ -219,13 +210,17 @@ def emit_entity(net: Network, header: list[str]) -> str:
                   body=body, numeric=numeric, architecture=ARCHITECTURE)
 
 
-def emit_testbench(name: str, width: int, carry_in: bool, carry_out: bool, count: int, plan: str) -> str:
+def emit_testbench(name: str, iface, count: int, plan: str) -> str:
+    """The VHDL testbench over the Verilog testbench's vectors file, generic over the interface's ports."""
     from ..base.version import __version__
     from .templating import render
+    from .testbench import STEP, line_bits, port_fields
 
-    digits = (3 * width + 2 + 3) // 4  # as testbench.vector_lines writes them
-    return render("testbench.vhd.j2", name=name, width=width, count=count, digits=digits, carry_in=carry_in,
-                  carry_out=carry_out, plan=plan, version=__version__, std=STD)
+    digits = (line_bits(iface) + 3) // 4  # as testbench.vector_lines writes them
+    inputs, outputs = port_fields(iface)
+    return render("testbench.vhd.j2", name=name, count=count, digits=digits, inputs=inputs, outputs=outputs,
+                  in_bits=iface.in_bits, out_bits=iface.out_bits, claim=iface.claim(), step=STEP, plan=plan,
+                  version=__version__, std=STD)
 
 
 def vhdl_files(d) -> dict[str, str]:
@@ -240,6 +235,5 @@ def vhdl_files(d) -> dict[str, str]:
     header = [line.replace("Verilog +", "numeric_std +") for line in header_lines(spec, d.metrics, d.net.meta)]
     return {
         f"{spec.name}.vhd": emit_entity(d.net, header),
-        f"{spec.name}_tb.vhd": emit_testbench(spec.name, spec.width, spec.carry_in, spec.carry_out,
-                                              d.testbench.count, d.plan),
+        f"{spec.name}_tb.vhd": emit_testbench(spec.name, d.net.iface, d.testbench.count, d.plan),
     }

@@ -19,9 +19,13 @@ is used costs the AND2 back.
 
 from __future__ import annotations
 
+from pathlib import Path
+
+from ..base.errors import NetworkError, SpecError
+from ..spec.registry import Option, choice_option, scheme, shown, type_name
+from . import network_file
 from .blocksizes import block_option, check_block, resolve, spans, text, wide_note
-from .prefix_networks import NETWORKS, NetworkError, build, final_refs, param_levels, prune
-from ..spec.registry import Option, choice_option, scheme, type_name
+from .prefix_networks import NETWORKS, build, final_refs, param_levels, prune, validate
 from .blockparts import conditional, select
 from .common import finish, generate_propagate, start
 from .ling import LING, carry, transmits
@@ -44,8 +48,21 @@ def _int_list(key: str, what: str, lo: int, length: int | None = None):
     return parse
 
 
+FROM_FILE = "file"  # prefix: file reads the network from the file named by 'network'
+
+
+def _path(v, fail):
+    if not isinstance(v, str) or not v.strip():
+        fail(f"'network' must be the path of a network file, got {type_name(v)}")
+    if len(v) > 4096 or "\0" in v:
+        fail("'network' is not a usable path (too long, or a NUL character)")
+    return v
+
+
 OPTIONS = (
-    choice_option("prefix", sorted(NETWORKS), "kogge-stone", "the prefix network"),
+    choice_option("prefix", sorted(NETWORKS) + [FROM_FILE], "kogge-stone",
+                  "the prefix network; 'file' reads it from the file named by 'network'"),
+    Option("network", _path, None, "for prefix: file, the network file (docs/network_file.md), relative to the spec"),
     Option("taxonomy", _int_list("taxonomy", "a list of three integers [l, f, t], each 0 or more", 0, 3), None,
            "for prefix: harris, Harris 2003's (l, f, t): l + f + t = ceil(log2 n) - 1 for n prefix inputs"),
     Option("fanouts", _int_list("fanouts", "a list of lateral fanouts, powers of two, the last level first", 1),
@@ -56,8 +73,44 @@ OPTIONS = (
 )
 
 
+def network_path(spec) -> Path:
+    """Where ``network:`` points: relative to the spec file's folder (to the current folder for a spec that
+    was not read from a file)."""
+    p = Path(spec.opt("network"))
+    if p.is_absolute() or spec.source.startswith("<"):
+        return p
+    return Path(spec.source).parent / p
+
+
+def file_network(spec):
+    """The full network of a ``prefix: file`` spec, its inputs checked against the spec's width."""
+    where = network_path(spec)
+    try:
+        graph = network_file.read(where, str(where))
+    except SpecError as exc:
+        if exc.message in ("no such file", "is a folder, not a network file", "is not a regular file"):
+            raise spec.error("network", f"network file {shown(spec.opt('network'))}: {exc.message}") from None
+        raise
+    n = spec.width + spec.carry_in
+    if graph.inputs != n:
+        context = f" (width {spec.width} plus the carry-in)" if spec.carry_in else f" (width {spec.width})"
+        raise spec.error("network", f"network file {shown(spec.opt('network'))} has {graph.inputs} inputs, but this adder "
+                                    f"needs {n}{context}")
+    return graph
+
+
 def check_prefix(spec) -> None:
     check_block(spec)
+    if spec.opt("prefix") == FROM_FILE:
+        for key in ("taxonomy", "fanouts"):
+            if spec.opt(key) is not None:
+                raise spec.error(key, f"'{key}' does not apply to 'prefix: file' (the file holds the network)")
+        if spec.opt("network") is None:
+            raise spec.error("prefix", "'prefix: file' needs 'network': the path of a network file")
+        file_network(spec)
+        return
+    if spec.opt("network") is not None:
+        raise spec.error("network", "'network' applies only to 'prefix: file'")
     kind = NETWORKS[spec.opt("prefix")]
     for key in ("taxonomy", "fanouts"):
         if spec.opt(key) is not None and kind.param != key:
@@ -79,11 +132,20 @@ def check_prefix(spec) -> None:
         raise spec.error(kind.param, str(exc)) from None
 
 
-def network_for(spec):
-    """The spec's prefix graph, pruned to the carries the sum stage and the carry out read."""
+def network_for(spec, full=None):
+    """The spec's prefix graph (or ``full``, any legal network over width + carry_in inputs), pruned to the
+    carries the sum stage and the carry out read."""
     ci = int(spec.carry_in)
-    kind = NETWORKS[spec.opt("prefix")]
-    full = build(kind.name, spec.width + ci, spec.opt(kind.param) if kind.param else None)
+    if full is not None:
+        validate(full)
+        if full.inputs != spec.width + ci:
+            raise NetworkError(f"{full.style}: {full.inputs} inputs, but a {spec.width}-bit adder "
+                               f"{'with' if ci else 'without'} carry-in needs {spec.width + ci}")
+    elif spec.opt("prefix") == FROM_FILE:
+        full = file_network(spec)
+    else:
+        kind = NETWORKS[spec.opt("prefix")]
+        full = build(kind.name, spec.width + ci, spec.opt(kind.param) if kind.param else None)
     block = spec.opt("block")
     sizes = resolve(block, spec.width)
     bounds = [lo for lo, _ in spans(sizes)[1:]] + ([spec.width] if spec.carry_out else [])
@@ -97,13 +159,19 @@ def network_for(spec):
 
 @scheme("prefix", options=OPTIONS, check=check_prefix,
         doc="parallel-prefix: Kogge-Stone, Brent-Kung, Sklansky, Han-Carlson, Ladner-Fischer, Knowles, the "
-            "Harris (l, f, t) taxonomy; sparse trees with carry-select sums; Ling carries")
+            "Harris (l, f, t) taxonomy, any network from a file; sparse trees with carry-select sums; Ling carries")
 def prefix_adder(spec):
+    return adder_with_network(spec)
+
+
+def adder_with_network(spec, full=None):
+    """The prefix adder of ``spec``, on ``full`` instead of the spec's network when given: any legal prefix
+    graph (a searched one, say) over width + carry_in inputs. Block and Ling keys apply as usual."""
     f = start(spec)
     b = f.b
     ci = int(spec.carry_in)
     ling = spec.opt("ling")
-    graph, sizes = network_for(spec)
+    graph, sizes = network_for(spec, full)
     if any(s > 1 for s in sizes):
         b.meta.append(("block_sizes", text(sizes)))
     b.meta += [("note", n) for n in [wide_note(spec.opt("block"), spec.width)] if n]

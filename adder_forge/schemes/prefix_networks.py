@@ -53,11 +53,11 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 from typing import Callable
 
+from ..base.errors import NetworkError
 from ..ir.network import PrefixCell, PrefixGraph
 
-
-class NetworkError(ValueError):
-    """A network parameter does not fit the number of prefix inputs (the scheme turns it into a SpecError)."""
+__all__ = ["NETWORKS", "NetworkError", "NetworkType", "build", "final_refs", "from_rows", "levels_of", "network",
+           "param_levels", "prune", "validate"]
 
 
 @dataclass(frozen=True)
@@ -111,29 +111,91 @@ class _Cell:
 
 
 def from_rows(n: int, rows, style: str, *, lazy: bool = False) -> PrefixGraph:
-    """Frozen cells from rows of ``(column, driver)`` pairs (see the module docstring).
+    """Frozen cells from rows of ``(column, driver)`` pairs (see the module docstring): any legal rows, from a
+    construction, a network file or a search.
 
     ``lazy`` drops redundant cells: a cell read only by the next cell of its own column goes when that
     reader's driver still touches the value below it (Sklansky is Knowles [2^(L-1), ..., 1] made lazy).
-    A gap between a column and its driver is a construction bug and raises AssertionError.
+    Rows that do not make a prefix network raise ``NetworkError`` naming the level (1-based) and the pair:
+    a column or driver out of range, a driver not below its column, a column combined twice in one row, a
+    gap between a column's span and its driver's, or a column left incomplete after the last row.
     """
+    if isinstance(n, bool) or not isinstance(n, int) or n < 1:
+        raise NetworkError(f"{style}: a network needs 1 or more inputs, got {n!r}")
     cells: list[_Cell] = []
     cur = [-1 - c for c in range(n)]  # reference to each column's current value
     low = list(range(n))
     for level, row in enumerate(rows, 1):
         ref0, low0 = cur[:], low[:]
-        for c, d in row:
-            assert 0 <= d < c < n, f"{style}: bad pair ({c}, {d}) at level {level}"
-            assert cur[c] == ref0[c], f"{style}: column {c} combined twice at level {level}"
+        for pair in row:
+            c, d = _pair(pair, style, level)
+            if not 0 <= d < c < n:
+                why = f"columns are 0..{n - 1}" if not (0 <= c < n and 0 <= d < n) else "the driver must be below the column"
+                raise NetworkError(f"{style}: bad pair ({c}, {d}) at level {level}: {why}")
+            if cur[c] != ref0[c]:
+                raise NetworkError(f"{style}: column {c} combined twice at level {level}")
             if low0[d] >= low0[c]:
                 continue  # the driver adds nothing the column does not have
-            assert d >= low0[c] - 1, f"{style}: column {c} [{c}:{low0[c]}] cannot reach driver {d} at level {level}"
+            if d < low0[c] - 1:
+                gap = f"column {d + 1}" if d + 1 == low0[c] - 1 else f"columns {d + 1}..{low0[c] - 1}"
+                raise NetworkError(f"{style}: column {c} [{c}:{low0[c]}] cannot reach driver {d} at level {level}: "
+                                   f"{gap} missing between them")
             cells.append(_Cell(c, low0[d], level, ref0[c], ref0[d]))
             cur[c], low[c] = len(cells) - 1, low0[d]
-    assert all(x == 0 for x in low), f"{style}: columns {[c for c in range(n) if low[c]][:8]} not complete"
+    open_cols = [c for c in range(n) if low[c]]
+    if open_cols:
+        raise NetworkError(f"{style}: {len(open_cols)} column(s) not complete after the last row, first "
+                           f"{', '.join(map(str, open_cols[:4]))} (column {open_cols[0]} reaches only down to "
+                           f"{low[open_cols[0]]})")
     if lazy:
         _drop_redundant(cells, n)
     return _freeze(n, cells, [cur[c] for c in range(n)], style)
+
+
+def _pair(pair, style: str, level: int) -> tuple[int, int]:
+    try:
+        c, d = pair
+    except (TypeError, ValueError):
+        raise NetworkError(f"{style}: level {level} holds {pair!r}, not a (column, driver) pair") from None
+    for x in (c, d):
+        if isinstance(x, bool) or not isinstance(x, int):
+            raise NetworkError(f"{style}: level {level} holds {pair!r}: columns are integers")
+    return c, d
+
+
+def validate(graph: PrefixGraph) -> PrefixGraph:
+    """``graph`` itself if it is a legal prefix network, else ``NetworkError``: every cell reads its own
+    column's earlier value and a value reaching the gap below it, from an earlier level, records the span it
+    computes, marks gray only a cell whose propagate nobody reads, and every column ends complete.
+    A graph from ``from_rows`` always passes; this guards graphs built elsewhere (a search, a test)."""
+    n = graph.inputs
+    span: list[tuple[int, int]] = []
+    level: list[int] = []
+
+    def of(r: int, k: int) -> tuple[int, int, int]:
+        if r < 0:
+            if not 0 <= -1 - r < n:
+                raise NetworkError(f"{graph.style}: cell {k} reads input column {-1 - r}, not one of 0..{n - 1}")
+            return -1 - r, -1 - r, 0
+        if r >= k:
+            raise NetworkError(f"{graph.style}: cell {k} reads cell {r}, which is not before it")
+        return span[r] + (level[r],)
+
+    for k, c in enumerate(graph.cells):
+        (ht, hb, hl), (lt, lb, ll) = of(c.hi, k), of(c.lo, k)
+        if ht != c.col or not (hb - 1 <= lt < ht and lb < hb):
+            raise NetworkError(f"{graph.style}: cell {k} in column {c.col} combines [{ht}:{hb}] with [{lt}:{lb}]")
+        if lb != c.low or c.level <= max(hl, ll):
+            raise NetworkError(f"{graph.style}: cell {k} records [{c.col}:{c.low}] at level {c.level} but computes "
+                               f"[{c.col}:{lb}] from level {max(hl, ll)}")
+        if c.lo >= 0 and not c.gray and graph.cells[c.lo].gray or c.hi >= 0 and graph.cells[c.hi].gray:
+            raise NetworkError(f"{graph.style}: cell {k} reads the propagate of a gray cell")
+        span.append((ht, lb))
+        level.append(c.level)
+    bad = [c for c, r in enumerate(final_refs(graph)) if r >= 0 and span[r][1] != 0 or r < 0 and c != 0]
+    if bad:
+        raise NetworkError(f"{graph.style}: column {bad[0]} does not end complete")
+    return graph
 
 
 def _drop_redundant(cells: list[_Cell], n: int) -> None:
@@ -182,7 +244,8 @@ def _freeze(n: int, cells: list[_Cell], outputs: list[int], style: str) -> Prefi
         if not live[k]:
             continue
         c = cells[k]
-        assert c.level > 0, f"{style}: a removed cell is still read"
+        if c.level <= 0:  # _drop_redundant only removes cells nobody reads any more
+            raise NetworkError(f"{style}: a removed cell is still read")
         if c.hi >= 0:
             live[c.hi] = need_p[c.hi] = True  # G = G_hi | P_hi & G_lo always reads P_hi
         if c.lo >= 0:
@@ -218,7 +281,8 @@ def prune(graph: PrefixGraph, outputs, style: str | None = None) -> PrefixGraph:
     refs = []
     for col in outputs:
         r = last[col]
-        assert (cells[r].low if r >= 0 else col) == 0, f"column {col} is not an output of {graph.style}"
+        if (cells[r].low if r >= 0 else col) != 0:
+            raise NetworkError(f"column {col} is not an output of {graph.style}")
         refs.append(r)
     return _freeze(graph.inputs, cells, refs, style)
 
