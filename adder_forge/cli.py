@@ -301,13 +301,10 @@ def cmd_dump(args) -> int:
 
 
 def cmd_schemes(args) -> int:
-    from .spec.registry import schemes
+    from .spec.registry import schemes, value_text
 
     def key(o) -> str:  # a default that picks something (prefix: kogge-stone) is shown, not implied
-        if o.default is None:
-            return o.key
-        d = str(o.default).lower() if isinstance(o.default, bool) else o.default
-        return f"{o.key} (default {d})"
+        return o.key if o.default is None else f"{o.key} (default {value_text(o.default)})"
 
     for s in schemes().values():
         keys = ", ".join(key(o) for o in s.options) or "-"
