@@ -11,7 +11,10 @@ from ..ir.network import Network, PrefixGraph
 
 @dataclass
 class Frame:
-    """The ports of one adder under construction. ``cin`` is constant 0 when the spec has no carry-in."""
+    """The ports of one adder under construction, as the carry network sees them: ``bb`` is the addend (b,
+    ~b for subtract, b ^ sub for add-subtract) and ``cin`` the carry into the network (the carry-in port,
+    else 0 for add, 1 for subtract, ``sub`` for add-subtract). Schemes build on these alone, so every
+    scheme gets every operation from one carry network."""
 
     b: Builder
     a: list[int]
@@ -23,12 +26,20 @@ class Frame:
 
 
 def start(spec) -> Frame:
-    """The input ports of the spec's interface, in its order."""
+    """The input ports of the spec's interface, in its order, and the operand conditioning."""
     iface = of_spec(spec)
     b = Builder(spec.name)
     a = b.input("a", spec.width)
-    bb = b.input("b", spec.width)
-    cin = b.input("cin", 1, scalar=True)[0] if iface.has("cin") else b.const(0)
+    raw = b.input("b", spec.width)
+    cin = b.input("cin", 1, scalar=True)[0] if iface.has("cin") else None
+    sub = b.input("sub", 1, scalar=True)[0] if iface.has("sub") else None
+    if iface.operation == "add":
+        bb, carry = raw, b.const(0)
+    elif iface.operation == "subtract":  # a - b = a + ~b + 1
+        bb, carry = [b.NOT(x, f"nb{i}", "operand") for i, x in enumerate(raw)], b.const(1)
+    else:  # one network for both: b ^ sub into generate/propagate, and sub as the +1 of subtraction
+        bb, carry = [b.XOR(x, sub, f"bx{i}", "operand") for i, x in enumerate(raw)], sub
+    cin = carry if cin is None else cin
     b.meta.append(("scheme", spec.scheme))
     for k, v in spec.options:
         if v is not None:  # keys that do not apply to this form (e.g. taxonomy for kogge-stone)
@@ -56,10 +67,24 @@ def sum_bits(f: Frame, p: list[int], carries: list[int]) -> list[int]:
     return [f.b.XOR(p[i], carries[i], f"s{i}", "sum") for i in range(f.width)]
 
 
-def finish(f: Frame, sums: list[int], cout: int, prefix: PrefixGraph | None = None) -> Network:
+def finish(f: Frame, sums: list[int], cout: int, prefix: PrefixGraph | None = None,
+           carry_top: int | None = None) -> Network:
+    """The output ports. ``cout`` must be the network's carry out whenever the spec reads it
+    (``spec.network_carry_out``); ``carry_top``, the carry into the top bit, when the scheme has it.
+
+    Overflow is c_w ^ c_w-1, the carries out of and into the sign bit (common practice): with the
+    scheme's own carry into the top bit when it passes one (one XOR), else that carry recovered from the
+    top sum bit as s_w-1 ^ a_w-1 ^ y_w-1 (sparse trees and carry-select sums never form it; two more XORs).
+    """
     f.b.output("sum", sums)
     if f.interface.has("cout"):
         f.b.output("cout", [cout], scalar=True)
+    if f.interface.has("overflow"):
+        top = f.width - 1
+        if carry_top is None:
+            t = f.b.XOR(f.a[top], f.bb[top], "ovp", "overflow")
+            carry_top = f.b.XOR(t, sums[top], "ctop", "overflow")
+        f.b.output("overflow", [f.b.XOR(cout, carry_top, "ovf", "overflow")], scalar=True)
     return f.b.finish(prefix, f.interface)
 
 
