@@ -34,12 +34,13 @@ def start(spec) -> Frame:
     cin = b.input("cin", 1, scalar=True)[0] if iface.has("cin") else None
     sub = b.input("sub", 1, scalar=True)[0] if iface.has("sub") else None
     if iface.operation == "add":
-        bb, carry = raw, b.const(0)
+        bb = raw
     elif iface.operation == "subtract":  # a - b = a + ~b + 1
-        bb, carry = [b.NOT(x, f"nb{i}", "operand") for i, x in enumerate(raw)], b.const(1)
+        bb = [b.NOT(x, f"nb{i}", "operand") for i, x in enumerate(raw)]
     else:  # one network for both: b ^ sub into generate/propagate, and sub as the +1 of subtraction
-        bb, carry = [b.XOR(x, sub, f"bx{i}", "operand") for i, x in enumerate(raw)], sub
-    cin = carry if cin is None else cin
+        bb = [b.XOR(x, sub, f"bx{i}", "operand") for i, x in enumerate(raw)]
+    if cin is None:  # the carry into the network without a carry-in port: 0, subtraction's 1, or sub
+        cin = sub if iface.operation == "add-subtract" else b.const(int(iface.operation == "subtract"))
     b.meta.append(("scheme", spec.scheme))
     for k, v in spec.options:
         if v is not None:  # keys that do not apply to this form (e.g. taxonomy for kogge-stone)
