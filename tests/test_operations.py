@@ -186,6 +186,18 @@ def test_taxonomy_counts_the_carry_into_a_subtracter():
     parse_spec(base + f"taxonomy: [0, 0, {param_levels(9) - 1}]\noperation: subtract\n", "t.yaml")
 
 
+@pytest.mark.parametrize("extra,key", [("operation: subtract\n", "operation"), ("overflow: true\n", "overflow")])
+def test_parameterized_form_refuses_what_it_cannot_build(tmp_path, capsys, extra, key):
+    from adder_forge.cli import main
+
+    p = tmp_path / "pf.yaml"
+    p.write_text("name: pf8\nwidth: 8\nscheme: ripple\nform: parameterized\n" + extra)
+    assert main(["build", str(p), "--out", str(tmp_path / "o")]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and err[0].startswith(f"{p}:5:") and f"'form: parameterized'" in err[0] and key in err[0], err
+    assert not (tmp_path / "o").exists()
+
+
 def test_cli_exit_2_one_line(tmp_path, capsys):
     from adder_forge.cli import main
 
