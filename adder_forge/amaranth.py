@@ -20,11 +20,12 @@ import os
 from collections.abc import Mapping
 from pathlib import Path
 
-from amaranth.hdl import Cat, Const, Module, Mux, Signal
+from amaranth import hdl
+from amaranth.hdl import Cat, Const, Module, Signal
 from amaranth.lib import wiring
 from amaranth.lib.wiring import In, Out
 
-from .ir.cells import add_width
+from .ir.cells import CELLS, GATES, add_width
 from .base.errors import AdderForgeError
 from .ir.network import Network
 from .schemes import elaborate
@@ -33,16 +34,6 @@ from .spec.loader import Spec, from_mapping, load_spec
 __all__ = ["AdderComponent", "UnsupportedForm", "component", "component_from_network", "spec_of",
            "use_wheel_yosys"]
 
-# Amaranth expression of each gate; arguments in IR order (MUX2: s, d0, d1).
-_GATES = {
-    "NOT": lambda x: ~x,
-    "AND2": lambda x, y: x & y,
-    "OR2": lambda x, y: x | y,
-    "XOR2": lambda x, y: x ^ y,
-    "XNOR2": lambda x, y: ~(x ^ y),
-    "AO21": lambda x, y, z: (x & y) | z,
-    "MUX2": lambda s, d0, d1: Mux(s, d1, d0),
-}
 _LEAVES = {"INPUT", "CONST", "ADD", "PICK"}  # handled by their own branches below
 _CLOCKS = {"clk"}  # the builder reserves this name for the clock of a future pipelined network
 
@@ -112,7 +103,7 @@ class AdderComponent(wiring.Component):
                 value[i] = sig
             else:
                 sig = Signal(name=n.name or f"n{i}")
-                m.d.comb += sig.eq(_GATES[n.op](*(value[j] for j in n.args)))
+                m.d.comb += sig.eq(CELLS[n.op].amaranth(hdl, *(value[j] for j in n.args)))
                 value[i] = sig
         for p in net.outputs:
             m.d.comb += getattr(self, p.name).eq(Cat(*(value[j] for j in p.bits)))
@@ -127,8 +118,8 @@ def _check_supported(net: Network) -> None:
         raise UnsupportedForm(f"the Amaranth form does not handle pipelined adders yet (clock port "
                               f"'{clocks[0]}'); only combinational networks", net.name)
     for i, n in enumerate(net.nodes):
-        if n.op not in _GATES and n.op not in _LEAVES:
-            valid = ", ".join(sorted(set(_GATES) | _LEAVES))
+        if n.op not in GATES and n.op not in _LEAVES:
+            valid = ", ".join(sorted(GATES | _LEAVES))
             raise UnsupportedForm(f"the Amaranth form has no translation for cell {n.op} (node "
                                   f"{n.name or i}); it handles {valid}", net.name)
 

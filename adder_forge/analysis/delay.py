@@ -6,8 +6,8 @@ cell library, no placement. Synthesis and FPGA figures come from the tools (synt
 Unit-gate model (Tyagi 1993, "A reduced-area scheme for carry-select adders", IEEE Trans. Computers;
 Zimmermann 1997, "Binary adder architectures for cell-based VLSI and their synthesis", ETH Zurich thesis;
 values from memory): a 2-input AND or OR costs 1 unit of area and 1 unit of delay, an XOR/XNOR 2 and 2.
-Cells the sources do not list are costed here as what they are made of (our choices, documented in
-``UNIT_GATE``): NOT 1 and 1 (not absorbed, so constant-folded inversions stay visible), AO21 = (x & y) | z
+Cells the sources do not list are costed here as what they are made of (our choices; every cell's
+figures live in ir/cells.py): NOT 1 and 1 (not absorbed, so constant-folded inversions stay visible), AO21 = (x & y) | z
 as an AND into an OR (2 and 2), MUX2 as two ANDs and an OR with the select inverter shared (3 and 2).
 
 Logical effort (Sutherland, Sproull and Harris, "Logical Effort: Designing Fast CMOS Circuits", 1999;
@@ -18,6 +18,9 @@ their inverting stage (AND2 as NAND2, AO21 as AOI21, ...): the usual reading of 
 which polarity alternates from level to level instead of paying an inverter per cell (Harris and
 Sutherland 2003 analyse prefix cells this way; from memory). XOR/XNOR assume both input polarities are at
 hand (common practice). Inputs are driven ideally; every output bit drives ``output_load`` unit inverters.
+
+Every arrival time (the unit-gate delay, the unsized logical-effort delay) comes from the one arrival pass
+(arrival.py); only the sized figure, which is a path property rather than a node's time, has its own pass.
 
 Loads: with every gate normalised to unit drive (a pin of logical effort g presents g unit-inverter
 capacitances), a node's load L is the sum of g over the pins it drives plus the output load of the port
@@ -41,48 +44,17 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
+from ..ir.cells import CELLS, EffortCell, UnitGate
 from ..ir.network import Network
+from .arrival import Arrival, arrival, output_bits
 from .skip_timing import has_skip, sensitizable_levels
 
 NOT_ESTIMATED = "the network holds ADD cells (Verilog +), whose structure the synthesis tool chooses"
 
 
-@dataclass(frozen=True)
-class UnitGate:
-    area: int
-    delay: int
-    doc: str
-
-
-UNIT_GATE: dict[str, UnitGate] = {
-    "NOT": UnitGate(1, 1, "inverter (our choice: counted, not absorbed)"),
-    "AND2": UnitGate(1, 1, "2-input AND (Tyagi 1993, Zimmermann 1997)"),
-    "OR2": UnitGate(1, 1, "2-input OR (Tyagi 1993, Zimmermann 1997)"),
-    "XOR2": UnitGate(2, 2, "2-input XOR (Tyagi 1993, Zimmermann 1997)"),
-    "XNOR2": UnitGate(2, 2, "2-input XNOR, as XOR"),
-    "AO21": UnitGate(2, 2, "(x & y) | z: an AND into an OR"),
-    "MUX2": UnitGate(3, 2, "s ? d1 : d0: two ANDs into an OR, the select inverter shared"),
-}
-
-
-@dataclass(frozen=True)
-class EffortCell:
-    realisation: str  # the CMOS stage the IR cell is costed as
-    g: tuple[float, ...]  # logical effort of each input pin, in IR argument order
-    p: float  # parasitic delay, tau (p_inv = 1)
-
-
-EFFORT: dict[str, EffortCell] = {
-    "NOT": EffortCell("INV", (1.0,), 1.0),
-    "AND2": EffortCell("NAND2", (4 / 3, 4 / 3), 2.0),
-    "OR2": EffortCell("NOR2", (5 / 3, 5 / 3), 2.0),
-    "XOR2": EffortCell("XOR2", (4.0, 4.0), 4.0),
-    "XNOR2": EffortCell("XNOR2", (4.0, 4.0), 4.0),
-    # AO21 args (x, y, z) = (x & y) | z: the AND pair of an AOI21 has g = 2, the lone OR input 5/3.
-    "AO21": EffortCell("AOI21", (2.0, 2.0, 5 / 3), 7 / 3),
-    # MUX2 args (s, d0, d1): an inverting multiplexer of two tristate inverters, g = 2 on every input.
-    "MUX2": EffortCell("MUX2 (tristate inverters)", (2.0, 2.0, 2.0), 4.0),
-}
+# Both models read the cell table (ir/cells.py holds each gate's figures and their sources).
+UNIT_GATE: dict[str, UnitGate] = {op: c.unit_gate for op, c in CELLS.items() if c.unit_gate is not None}
+EFFORT: dict[str, EffortCell] = {op: c.effort for op, c in CELLS.items() if c.effort is not None}
 
 
 @dataclass(frozen=True)
@@ -99,12 +71,7 @@ def has_add(net: Network) -> bool:
     return any(n.op in ("ADD", "PICK") for n in net.nodes)
 
 
-def _timed(net: Network, i: int) -> bool:
-    return net.nodes[i].op not in ("CONST",)
-
-
-def _outputs(net: Network) -> list[int]:
-    return [b for p in net.outputs for b in p.bits]
+_outputs = output_bits
 
 
 def _name(net: Network, i: int) -> str:
@@ -119,33 +86,14 @@ def unit_gate(net: Network) -> dict | None:
     """Unit-gate delay (longest path) and area of the whole network, or None if it holds ADD cells."""
     if has_add(net):
         return None
-    nodes = net.nodes
-    t = [0] * len(nodes)
-    via = [-1] * len(nodes)
-    area = 0
-    for i, n in enumerate(nodes):
-        if n.op in ("INPUT", "CONST"):
-            continue
-        cell = UNIT_GATE[n.op]
-        area += cell.area
-        best, arg = 0, -1
-        for a in n.args:
-            if _timed(net, a) and (arg < 0 or t[a] > best):
-                best, arg = t[a], a
-        t[i] = best + cell.delay
-        via[i] = arg
-    outs = _outputs(net)
-    end = max(outs, key=lambda b: t[b])
-    return {"delay": t[end], "area": area, "path": _trace(net, via, end)}
+    a = arrival(net, lambda i, n: UNIT_GATE[n.op].delay)
+    area = sum(UNIT_GATE[n.op].area for n in net.nodes if n.op in UNIT_GATE)
+    end = a.latest(_outputs(net))
+    return {"delay": a.times[end] if end >= 0 else 0, "area": area, "path": _trace(net, a, end)}
 
 
-def _trace(net: Network, via: list[int], end: int) -> list[str]:
-    path = []
-    i = end
-    while i >= 0:
-        path.append(_name(net, i))
-        i = via[i]
-    return path[::-1]
+def _trace(net: Network, a: Arrival, end: int) -> list[str]:
+    return [_name(net, i) for i in a.path(end)]
 
 
 # -- logical effort ------------------------------------------------------------------------------------------
@@ -222,8 +170,6 @@ def logical_effort(net: Network, model: EffortModel = DEFAULT_MODEL) -> dict | N
     keep = set(_outputs(net))
     live: dict[int, _Front] = {}
     back: dict[int, _Back] = {}
-    arrive = [0.0] * len(nodes)  # unsized arrival times
-    unsized_via = [-1] * len(nodes)
     for i, n in enumerate(nodes):
         if n.op == "CONST":
             continue
@@ -232,10 +178,6 @@ def logical_effort(net: Network, model: EffortModel = DEFAULT_MODEL) -> dict | N
             live[i] = _Front({(0, 0): 0.0})
             continue
         cell = model.cells[n.op]
-        # Unsized: every gate at unit drive, stage delay L + p.
-        src = max(timed, key=lambda a: arrive[a])
-        arrive[i] = arrive[src] + load[i] + cell.p
-        unsized_via[i] = src
         # Sized: the arguments' best paths, then this stage (N + 1, F * L, P + p).
         front, base, override = _merge(timed, live)
         pk = round(cell.p * _P_SCALE)
@@ -271,19 +213,22 @@ def logical_effort(net: Network, model: EffortModel = DEFAULT_MODEL) -> dict | N
     path.reverse()
     f_log = sum(math.log(load[j]) for j in path)
     p_sum = sum(model.cells[nodes[j].op].p for j in path)
-    unsized_end = max(_outputs(net), key=lambda b: arrive[b])
+    # Unsized: every gate at unit drive, stage delay L + p.
+    unsized = arrival(net, lambda i, n: load[i] + model.cells[n.op].p)
+    unsized_end = unsized.latest(_outputs(net))
+    unsized_tau = unsized.times[unsized_end] if unsized_end >= 0 else 0.0
     return {
         "sized_tau": round(sized, 3),
         "sized_fo4": round(sized / model.fo4, 3),
-        "unsized_tau": round(arrive[unsized_end], 3),
-        "unsized_fo4": round(arrive[unsized_end] / model.fo4, 3),
+        "unsized_tau": round(unsized_tau, 3),
+        "unsized_fo4": round(unsized_tau / model.fo4, 3),
         "stages": stages,
         "path_effort_log10": round(f_log / math.log(10), 3),  # F itself overflows a float on long ripples
         "stage_effort": round(math.exp(f_log / stages), 3) if stages else 0.0,
         "parasitic_tau": round(p_sum, 3),
         "path": [{"node": _name(net, j), "op": nodes[j].op, "cell": model.cells[nodes[j].op].realisation,
                   "load": round(load[j], 3), "p": round(model.cells[nodes[j].op].p, 3)} for j in path],
-        "unsized_path": _trace(net, unsized_via, unsized_end),
+        "unsized_path": _trace(net, unsized, unsized_end),
     }
 
 

@@ -21,24 +21,25 @@ from collections import Counter
 
 from ..ir.cells import GATES, cost_of, levels_of
 from ..ir.network import Network
+from .arrival import arrival, output_bits
 from .skip_timing import sensitizable_levels
 
 LEFT_TO_SYNTHESIS = "n/a: left to synthesis"  # how the netlist figures of a Verilog `+` are shown
 
 
+def _levels(i: int, n) -> int:
+    return levels_of(n.op, len(n.args))
+
+
 def depth(net: Network) -> list[int]:
-    """Arrival level of every node in 2-input gate levels (cells.py's table); inputs at 0."""
-    lv = [0] * len(net.nodes)
-    for i, n in enumerate(net.nodes):
-        if n.args:
-            base = max(lv[a] for a in n.args)
-            lv[i] = base + levels_of(n.op, len(n.args))
-    return lv
+    """Arrival level of every node in 2-input gate levels (cells.py's table); inputs and constants at 0."""
+    return [t or 0 for t in arrival(net, _levels).times]
 
 
 def gate_levels(net: Network) -> int:
-    lv = depth(net)
-    return max((lv[b] for p in net.outputs for b in p.bits), default=0)
+    a = arrival(net, _levels)
+    end = a.latest(output_bits(net))
+    return a.times[end] if end >= 0 else 0
 
 
 def plus_cells(net: Network) -> int:

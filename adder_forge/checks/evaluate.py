@@ -13,7 +13,7 @@ from functools import partial
 
 import numpy as np
 
-from ..ir.cells import add_width
+from ..ir.cells import CELLS, add_width
 from ..ir.network import Network
 
 ONES = np.uint64(0xFFFFFFFFFFFFFFFF)
@@ -65,27 +65,13 @@ class Evaluator:
                 r = inputs[name][j]
             elif op == "CONST":
                 r = ones if n.param else zeros
-            elif op == "AND2":
-                r = x[0] & x[1]
-            elif op == "OR2":
-                r = x[0] | x[1]
-            elif op == "XOR2":
-                r = x[0] ^ x[1]
-            elif op == "XNOR2":
-                r = ~(x[0] ^ x[1])
-            elif op == "NOT":
-                r = ~x[0]
-            elif op == "AO21":
-                r = (x[0] & x[1]) | x[2]
-            elif op == "MUX2":
-                r = (x[1] & ~x[0]) | (x[2] & x[0])
             elif op == "ADD":
                 picks[i] = _add_planes(x)
                 r = zeros
             elif op == "PICK":
                 r = picks[n.args[0]][n.param]
-            else:  # pragma: no cover - check_well_formed rejects unknown ops
-                raise ValueError(f"cannot evaluate op {op}")
+            else:
+                r = CELLS[op].evaluate(*x)
             val[i] = r
             for dead in self._free_after[i]:
                 val.pop(dead, None)
@@ -190,18 +176,8 @@ def schedule(net: Network) -> Schedule:
             slot_of[i] = 0  # read by its PICKs only, which take the bits' slots
         else:
             o = take()  # every slot on the free list holds a dead net, so o is none of x
-            if op in _GATE_STEPS:
-                steps.append((_GATE_STEPS[op], (x[0], x[1]), o))
-            elif op == "XNOR2":
-                steps += [("xor", (x[0], x[1]), o), ("not", (o,), o)]
-            elif op == "NOT":
-                steps.append(("not", (x[0],), o))
-            elif op == "AO21":
-                steps += [("and", (x[0], x[1]), o), ("or", (o, x[2]), o)]
-            elif op == "MUX2":  # d0 ^ ((d0 ^ d1) & s): three steps instead of four
-                steps += [("xor", (x[1], x[2]), o), ("and", (o, x[0]), o), ("xor", (o, x[1]), o)]
-            else:  # pragma: no cover - check_well_formed rejects unknown ops
-                raise ValueError(f"cannot evaluate op {op}")
+            for f, pins in CELLS[op].steps:  # each step reads the cell's inputs or its own output slot
+                steps.append((f, tuple(o if k < 0 else x[k] for k in pins), o))
             define(i, o)
         for a in n.args:
             if net.nodes[a].op == "ADD":
@@ -213,7 +189,6 @@ def schedule(net: Network) -> Schedule:
     return Schedule(count, tuple(steps), inputs, outputs)
 
 
-_GATE_STEPS = {"AND2": "and", "OR2": "or", "XOR2": "xor"}
 _UFUNCS = {"and": np.bitwise_and, "or": np.bitwise_or, "xor": np.bitwise_xor, "not": np.invert}
 
 

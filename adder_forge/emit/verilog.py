@@ -4,7 +4,7 @@ spec gives the same bytes."""
 
 from __future__ import annotations
 
-from ..ir.cells import add_width
+from ..ir.cells import add_width, verilog_of
 from ..ir.network import Network
 
 
@@ -50,23 +50,9 @@ def concat(net: Network, msb_first: list[int]) -> str:
     return parts[0] if len(parts) == 1 else "{" + ", ".join(parts) + "}"
 
 
-# Verilog text of each gate; {0}, {1}, {2} are the cell's arguments in IR order (MUX2: s, d0, d1).
-_FORMAT = {
-    "NOT": "~{0}",
-    "AND2": "{0} & {1}",
-    "OR2": "{0} | {1}",
-    "XOR2": "{0} ^ {1}",
-    "XNOR2": "~({0} ^ {1})",
-    "AO21": "({0} & {1}) | {2}",
-    "MUX2": "{0} ? {2} : {1}",
-}
-
-
 def expression(net: Network, i: int) -> str:
     n = net.nodes[i]
-    if n.op not in _FORMAT:
-        raise ValueError(f"no Verilog expression for {n.op}")
-    return _FORMAT[n.op].format(*(operand(net, a) for a in n.args))
+    return verilog_of(n.op, [operand(net, a) for a in n.args])
 
 
 def _read_carries(net: Network, uses: list[int]) -> set[int]:

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import re
 
-from ..ir.cells import add_width
+from ..ir.cells import add_width, vhdl_of
 from ..ir.network import Network
 
 STD = "93c"  # what GHDL is asked to check the files against (VHDL-93 with common relaxations)
@@ -106,16 +106,7 @@ class _Emitter:
 
     def expression(self, i: int) -> str:
         n = self.net.nodes[i]
-        x = [self.operand(a) for a in n.args]
-        if n.op == "NOT":
-            return f"not {x[0]}"
-        if n.op in ("AND2", "OR2", "XOR2", "XNOR2"):
-            return f"{x[0]} {n.op[:-1].lower()} {x[1]}"
-        if n.op == "AO21":
-            return f"({x[0]} and {x[1]}) or {x[2]}"  # VHDL does not mix and/or without parentheses
-        if n.op == "MUX2":
-            return f"{x[2]} when {x[0]} = '1' else {x[1]}"  # args (s, d0, d1)
-        raise ValueError(f"no VHDL expression for {n.op}")
+        return vhdl_of(n.op, [self.operand(a) for a in n.args])
 
     def vector_of(self, nodes: list[int]) -> str | None:
         """The name of a whole std_logic_vector port whose bits 0.. are exactly ``nodes``, else None."""

@@ -4,11 +4,10 @@ from __future__ import annotations
 
 from dataclasses import replace
 
-from .cells import GATES
+from .cells import CELLS, GATES
 from .network import Network, Node
 
-# A 2-input gate swapped for another of the same arity: the smallest plausible design slip.
-_SWAP = {"AND2": "OR2", "OR2": "AND2", "XOR2": "XNOR2", "XNOR2": "XOR2"}
+
 
 
 def gate_indices(net: Network, role: str | None = None) -> list[int]:
@@ -19,16 +18,11 @@ def break_gate(net: Network, index: int, op: str | None = None) -> Network:
     """The same network with one gate's function changed (mutation testing: the checks must notice)."""
     n = net.nodes[index]
     if op is None:
-        if n.op == "AO21":
-            new = Node("MUX2", n.args, n.name, n.role, n.param)  # (x&y)|z -> x ? z : y
-        elif n.op == "MUX2":
-            new = Node("AO21", n.args, n.name, n.role, n.param)
-        elif n.op == "NOT":
-            raise ValueError("no single-op swap for NOT; pass op explicitly")
-        else:
-            new = Node(_SWAP[n.op], n.args, n.name, n.role, n.param)
-    else:
-        new = Node(op, n.args, n.name, n.role, n.param)
+        # cells.py names each gate's slip: AND2 <-> OR2, XOR2 <-> XNOR2, AO21 (x&y)|z <-> MUX2 x ? z : y
+        op = CELLS[n.op].slip
+        if op is None:
+            raise ValueError(f"no single-op swap for {n.op}; pass op explicitly")
+    new = Node(op, n.args, n.name, n.role, n.param)
     nodes = list(net.nodes)
     nodes[index] = new
     return replace(net, nodes=tuple(nodes))
