@@ -18,7 +18,7 @@ from adder_forge.analysis.prefix_figures import fanout, prefix_figures, sergeev_
 from adder_forge.cli import main
 from adder_forge.schemes import elaborate, network_file
 from adder_forge.schemes.prefix_networks import build, from_rows, validate
-from adder_forge.search.local import Bounds, anneal, repaired
+from adder_forge.search.local import Bounds, anneal, evaluate, graph_of, level_tracks, repaired
 from adder_forge.search.prefix_dp import Solver, rows_from_ops
 from adder_forge.search.run import Request, classic_starts, dp_network, search
 from adder_forge.spec.loader import load_spec
@@ -70,6 +70,37 @@ def test_dp_finds_zero_deficiency_networks(n, d, cells):
     assert prefix_figures(g)["prefix_snir_gap"] == 0
 
 
+def test_the_built_network_has_the_cells_the_program_counted():
+    for n in (3, 7, 16, 20, 33, 48):
+        L = (n - 1).bit_length()
+        for d in (L, L + 1, L + 3):
+            s = Solver(d)
+            g = from_rows(n, rows_from_ops(n, s.ops(n)), "dp")
+            assert len(g.cells) <= s.cost(n) and depth(g) <= d, (n, d)
+            assert len(g.cells) == s.cost(n), (n, d)  # no pair of the construction is wasted
+
+
+def test_fast_evaluation_counts_what_the_graph_has():
+    """local.evaluate (one pass, used for every move) against the built graph's own figures."""
+    rng = random.Random(11)
+    complete = 0
+    for trial in range(60):
+        n = rng.randint(2, 24)
+        L = (n - 1).bit_length() + rng.randint(0, 2)
+        grid = [[-1] + [rng.randrange(0, c) if rng.random() < 0.85 else -1 for c in range(1, n)] for _ in range(L)]
+        b = Bounds(L, rng.choice([None, 2, 3]), rng.choice([None, 1, 3]))
+        e = evaluate(grid, n, b)
+        g = graph_of(grid, n, "t")
+        if e is None:
+            assert g is None
+            continue
+        assert (e[0], e[1], e[2]) == (len(g.cells), depth(g), b.excess(g)), trial
+        assert_prefix(g, n)
+        assert max(level_tracks(g).values(), default=0) == tracks(g)
+        complete += 1
+    assert complete >= 20  # the comparison ran on enough networks to mean something
+
+
 def test_ops_to_rows_keep_every_dependence():
     rows = rows_from_ops(4, [(1, 0), (3, 2), (3, 1), (2, 1)])
     assert rows == [[(1, 0), (3, 2)], [(3, 1), (2, 1)]]
@@ -86,8 +117,8 @@ def test_repair_moves_a_driver_up_to_the_reach_and_refuses_incomplete_grids():
 def test_annealing_is_deterministic_for_a_seed_and_meets_its_bounds():
     start = build("kogge-stone", 16)
     b = Bounds(4, 3)
-    one = anneal(start, b, lambda g: len(g.cells), 5, 2)
-    two = anneal(start, b, lambda g: len(g.cells), 5, 2)
+    one = anneal(start, b, lambda cells, d: cells, 5, 2)
+    two = anneal(start, b, lambda cells, d: cells, 5, 2)
     assert one[0].cells == two[0].cells and one[2] == 2
     g = one[0]
     assert_prefix(g, 16)

@@ -33,7 +33,7 @@ from ..base.errors import NetworkError
 from ..ir.network import PrefixGraph
 from ..schemes.network_file import rows_of
 from ..schemes.prefix_networks import from_rows
-from ..analysis.prefix_figures import lateral_loads, tracks
+from ..analysis.prefix_figures import lateral_loads
 
 MOVES = 2000  # moves a round
 PENALTY = 4.0  # cost of one unit over a fanout or tracks bound
@@ -43,6 +43,24 @@ def fanout_excess(graph: PrefixGraph, bound: int) -> int:
     """Units of fanout over ``bound``, summed over every (value, level): Harris 2003's measure, lateral
     loads at one level plus one for the value's own column (``prefix_figures.fanout`` is the largest)."""
     return sum(max(0, 1 + len(cols) - bound) for cols in lateral_loads(graph).values())
+
+
+def level_tracks(graph: PrefixGraph) -> dict[int, int]:
+    """Wire tracks of each level (``prefix_figures.tracks`` is the largest of them)."""
+    by_level: dict[int, list[int]] = {}
+    for (r, level), cols in lateral_loads(graph).items():
+        col = graph.cells[r].col if r >= 0 else -1 - r
+        d = by_level.setdefault(level, [0] * (graph.inputs + 1))
+        d[col] += 1
+        d[max(cols)] -= 1
+    out = {}
+    for level, d in by_level.items():
+        run = most = 0
+        for x in d:
+            run += x
+            most = max(most, run)
+        out[level] = most
+    return out
 
 
 @dataclass(frozen=True)
@@ -56,7 +74,7 @@ class Bounds:
         if self.fanout is not None:
             over += fanout_excess(graph, self.fanout)
         if self.tracks is not None:
-            over += max(0, tracks(graph) - self.tracks)
+            over += sum(max(0, t - self.tracks) for t in level_tracks(graph).values())
         return over
 
     def met(self, graph: PrefixGraph) -> bool:
@@ -110,34 +128,83 @@ def graph_of(grid: list[list[int]], n: int, style: str) -> PrefixGraph | None:
         return None
 
 
+def evaluate(grid: list[list[int]], n: int, bounds: Bounds):
+    """(cells, depth, units over the bounds) of the grid as ``repaired`` leaves it (repairing it in place),
+    or None when a column ends incomplete: the same network ``graph_of`` builds, counted in one pass.
+    Every kept pair is a live cell (each column's chain ends in its output), so cells = kept pairs."""
+    low = list(range(n))
+    dep = [0] * n
+    cells = 0
+    over = 0
+    F = bounds.fanout
+    T = bounds.tracks
+    for row in grid:
+        low0 = low[:]
+        dep0 = dep[:]
+        loads: dict[int, int] = {}
+        reach: dict[int, int] = {}
+        for c in range(1, n):
+            d = row[c]
+            if d < 0:
+                continue
+            lc = low0[c]
+            if lc == 0:
+                row[c] = -1
+                continue
+            if d < lc - 1 or d >= c:
+                d = row[c] = lc - 1
+            if low0[d] >= lc:
+                row[c] = -1
+                continue
+            cells += 1
+            low[c] = low0[d]
+            dep[c] = max(dep0[c], dep0[d]) + 1
+            loads[d] = loads.get(d, 0) + 1
+            if c > reach.get(d, -1):
+                reach[d] = c
+        if F is not None:
+            over += sum(max(0, 1 + x - F) for x in loads.values())
+        if T is not None and reach:
+            diff = [0] * (n + 1)
+            for d, top in reach.items():
+                diff[d] += 1
+                diff[top] -= 1
+            run = most = 0
+            for x in diff:
+                run += x
+                most = max(most, run)
+            over += max(0, most - T)
+    if any(low):
+        return None
+    return cells, max(dep), over
+
+
 def anneal(start: PrefixGraph, bounds: Bounds, score, seed: int, rounds: int, progress=None,
            style: str = "searched", t0: float = 1.5, t1: float = 0.05):
-    """Best network found from ``start`` in ``rounds`` rounds; ``score(graph) -> float`` (lower is better)
-    is the objective before penalties. Returns (graph, its score, rounds done). ``progress`` is called
-    after each round with (round, best score) and returns True to stop there (the round count then says
-    how many were done, and is what reproduces the run)."""
+    """Best network found from ``start`` in ``rounds`` rounds; ``score(cells, depth) -> float`` (lower is
+    better) is the objective before penalties. Returns (graph, its score, rounds done). Each round is one
+    full cooling from ``t0`` to ``t1``, started from the best state so far, so a round does the same work
+    whatever the total. ``progress`` is called after each round with (round, best score) and returns True
+    to stop there (the round count then says how many were done, and is what reproduces the run)."""
     n = start.inputs
     rng = random.Random(seed)
     L = bounds.levels
-
-    def cost(g):
-        return score(g) + PENALTY * bounds.excess(g)
-
-    cur = start
-    cur_cost = cost(cur)
-    grid = grid_of(cur, L)
-    best, best_cost = (cur, cur_cost) if bounds.met(cur) else (None, math.inf)
+    grid = grid_of(start, L)
+    first = evaluate(grid, n, bounds)
+    cur_cost = score(first[0], first[1]) + PENALTY * first[2]
+    best_grid = [row[:] for row in grid] if first[2] == 0 else None
+    best_cost = cur_cost if first[2] == 0 else math.inf
     done = 0
     for r in range(rounds):
-        for i in range(MOVES):
-            temp = t0 * (t1 / t0) ** ((r * MOVES + i) / max(1, rounds * MOVES))
+        if best_grid is not None:
+            grid = [row[:] for row in best_grid]
+            cur_cost = best_cost
+        for i in range(MOVES if n > 1 else 0):
+            temp = t0 * (t1 / t0) ** (i / MOVES)
             k = rng.randrange(L)
-            c = rng.randrange(1, n) if n > 1 else 0
-            if n < 2:
-                break
+            c = rng.randrange(1, n)
             old = grid[k][c]
-            kind = rng.random()
-            if old >= 0 and kind < 0.4:
+            if old >= 0 and rng.random() < 0.4:
                 new = -1
             else:
                 span = 1 << (k + 1)
@@ -146,20 +213,22 @@ def anneal(start: PrefixGraph, bounds: Bounds, score, seed: int, rounds: int, pr
                     continue
             saved = [row[:] for row in grid]
             grid[k][c] = new
-            g = graph_of(grid, n, style)
-            if g is None:
+            e = evaluate(grid, n, bounds)
+            if e is None:
                 grid = saved
                 continue
-            c_new = cost(g)
+            c_new = score(e[0], e[1]) + PENALTY * e[2]
             delta = c_new - cur_cost
             if delta <= 0 or rng.random() < math.exp(-delta / temp):
-                cur, cur_cost = g, c_new
-                grid = grid_of(g, L)
-                if c_new < best_cost and bounds.met(g):
-                    best, best_cost = g, c_new
+                cur_cost = c_new
+                if c_new < best_cost and e[2] == 0:
+                    best_grid, best_cost = [row[:] for row in grid], c_new
             else:
                 grid = saved
         done = r + 1
         if progress is not None and progress(done, best_cost):
             break
-    return best, best_cost, done
+    if best_grid is None:
+        return None, math.inf, done
+    g = graph_of(best_grid, n, style)
+    return g, best_cost, done

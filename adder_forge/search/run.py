@@ -235,8 +235,9 @@ def search(r: Request, progress: Progress = NULL) -> Found:
                 return r.rounds is None and time.monotonic() > end
 
             if budget > 0:
-                g, s, done = anneal(start_graph, bounds, lambda g: _score(r.objective, g), r.seed, budget,
-                                    progress=tick, style="searched")
+                score = (lambda cells, d: float(cells)) if r.objective == "cells" else \
+                    (lambda cells, d: float(cells * max(1, d)))
+                g, s, done = anneal(start_graph, bounds, score, r.seed, budget, progress=tick, style="searched")
                 if g is not None and s < best_score:
                     best, best_score = g, s
     validate(best)
