@@ -81,7 +81,7 @@ class AdderComponent(wiring.Component):
         super().__init__(wiring.Signature(members))
 
     def __repr__(self) -> str:
-        return f"<AdderComponent {self.network.name} width={self.network.width}>"
+        return f"<AdderComponent {self.network.name} width={self.network.iface.width}>"
 
     def elaborate(self, platform):
         m = Module()

@@ -42,7 +42,8 @@ def _parser() -> argparse.ArgumentParser:
     v = sub.add_parser("verify", help="check that each spec's adder adds: built-in, simulators, formal")
     v.add_argument("specs", nargs="+", metavar="SPEC")
     v.add_argument("--sim", action="append", default=[], metavar="NAME",
-                   help="also run icarus, verilator, cocotb-icarus, cocotb-verilator, or all (comma list, repeatable)")
+                   help="also run icarus, verilator, ghdl (the VHDL form, made on the fly), cocotb-icarus, "
+                        "cocotb-verilator, or all (comma list, repeatable)")
     v.add_argument("--formal", action="store_true", help="prove equivalence to a + b + cin with Yosys")
     v.add_argument("--exhaustive", action="store_true",
                    help="built-in check of every input up to 2^33 vectors, a 16-bit adder with carry-in "
@@ -56,6 +57,7 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("specs", nargs="+", metavar="SPEC")
     r.add_argument("--synth", default="", metavar="FLOWS", help="comma list of generic, lut6, ice40")
     r.add_argument("--out", default="out", metavar="DIR")
+    r.add_argument("--csv", metavar="FILE", help="also write every measurement record (specs and + baselines) to FILE")
     r.add_argument("--force", action="store_true",
                    help="replace output files that adder_forge did not write or that were edited since")
 
@@ -180,87 +182,49 @@ def _build_line(d, path) -> str:
             f"testbench {plural(d.testbench.count, 'vector')} ({d.plan}) -> {path}/")
 
 
-# Other names designers use for the simulators (the program a flow runs, the package name); any case.
-SIM_ALIASES = {"iverilog": "icarus", "vvp": "icarus", "icarus-verilog": "icarus", "icarus_verilog": "icarus",
-               "verilator-cli": "verilator", "cocotb-iverilog": "cocotb-icarus", "cocotb_icarus": "cocotb-icarus",
-               "cocotb_verilator": "cocotb-verilator"}
-
-
 def _sims(values: list[str]) -> list[str]:
-    from .spec.registry import shown, suggest
-    from .checks.verify import CHECKERS
+    """The --sim list (comma lists, repeatable) as checker names; the checker registry judges each name."""
+    from .checks.verify import select
 
-    valid = [c for c in CHECKERS if c not in ("builtin", "formal")]
-    out: list[str] = []
-    for v in values:
-        for given in filter(None, (x.strip() for x in v.split(","))):
-            name = SIM_ALIASES.get(given.lower(), given.lower())
-            if name == "all":
-                out += valid
-            elif name in valid:
-                out.append(name)
-            elif name == "formal":
-                raise UsageError("'formal' is not a simulator: add --formal for the proof", "verify", "--sim")
-            elif name == "builtin":
-                raise UsageError("the built-in check always runs: --sim names the simulators to add", "verify", "--sim")
-            elif name == "cocotb":
-                raise UsageError("--sim cocotb needs a simulator: cocotb-icarus or cocotb-verilator", "verify", "--sim")
-            else:
-                raise UsageError(f"unknown simulator '{shown(given)}'" + suggest(name, valid + ["all"], SIM_ALIASES),
-                                 "verify", "--sim")
-    return list(dict.fromkeys(out))
+    return select([x.strip() for v in values for x in v.split(",") if x.strip()])
 
 
 def _flows(text: str) -> list[str]:
     """The --synth list: flow names in any case; a bad one gets a suggestion."""
-    from .spec.registry import shown, suggest
-    from .synth.flows import FLOWS
+    from .synth.flows import FLOWS, unknown_flow
 
     out = []
     for given in filter(None, (x.strip() for x in text.split(","))):
         name = given.lower()
         if name not in FLOWS:
-            raise UsageError(f"unknown synthesis flow '{shown(given)}'" + suggest(name, FLOWS), "report", "--synth")
+            raise unknown_flow(given)
         out.append(name)
     return list(dict.fromkeys(out))
 
 
 def cmd_verify(args) -> int:
-    from .checks.verify import verify
+    from .checks.verify import builtin_plan, chosen, rows, verify
 
     sims = _sims(args.sim)
     if args.vectors < 0:
         raise UsageError(f"--vectors must be 0 or more, got {args.vectors}", "verify", "--vectors")
-    from .checks.verify import builtin_plan
 
     keep = _keep_folder(args.keep) if args.keep else None
     specs = _load_all(args.specs)
     for s in specs:  # a spec too wide for --exhaustive fails here, before any work
         builtin_plan(s, args.vectors, args.seed, args.exhaustive)
+    chosen(specs, sims, args.formal)  # and one a chosen checker cannot take (a VHDL-illegal name for ghdl)
     progress = _progress()
     # Only the simulators read the testbench: without them its vectors would be drawn and held for nothing.
     designs = _designs(specs, tb_random=args.vectors if sims else 0, seed=args.seed, progress=progress)
     found = verify(designs, sims, args.formal, args.vectors, args.seed, keep, progress=progress,
                    exhaustive=args.exhaustive)
-    results, stopped = found.outcomes, found.stopped
-    names = [o.name for o in results] + ([stopped.name] if stopped else [])
-    width = max(len(n) for n in names)
-    bad = 0
-    for o in results:
-        status = "pass" if o.ok else "FAIL"
-        count = f"{o.vectors} vectors" if o.vectors else ""
-        if not o.ok and o.vectors:
-            count = f"{o.failed} of {o.vectors} vectors failed"
-        print(f"{o.name:<{width}}  {o.checker:<16} {status}  {count + '; ' if count else ''}{o.detail}")
-        bad += not o.ok
-    if stopped is None:
-        print(f"{len(results) - bad} passed, {bad} failed")
-        return EXIT_MISMATCH if bad else EXIT_OK
-    why = stopped.error.message + (f": {stopped.error.hint.strip().splitlines()[-1]}" if stopped.error.hint.strip() else "")
-    print(f"{stopped.name:<{width}}  {stopped.checker:<16} ERROR {why}")
-    print(f"{len(results) - bad} passed, {bad} failed; {stopped.checker} could not run, later checks skipped")
-    print(f"adder-forge: {stopped.error}", file=sys.stderr)
-    return EXIT_MISMATCH if bad else EXIT_TOOL  # a mismatch already found outranks a tool that failed
+    print("\n".join(rows(found)))
+    if found.stopped is not None:
+        print(f"adder-forge: {found.stopped.error}", file=sys.stderr)
+    if found.failed:
+        return EXIT_MISMATCH  # a mismatch already found outranks a tool that failed
+    return EXIT_TOOL if found.stopped is not None else EXIT_OK
 
 
 def _keep_folder(value: str) -> Path:
@@ -279,11 +243,20 @@ def cmd_report(args) -> int:
     from .synth.measure import format_table, measure_specs
 
     flows = _flows(args.synth)
+    csv = Path(args.csv) if args.csv else None
+    if args.csv is not None and not args.csv.strip():
+        raise UsageError("--csv needs a file name", "report", "--csv")
     specs = _load_all(args.specs)
-    results = measure_specs(specs, flows, Path(args.out), progress=_progress(), force=args.force)
+    results = measure_specs(specs, flows, Path(args.out), progress=_progress(), force=args.force, csv=csv)
     print(format_table(results))
-    for r in results:
-        print(f"{r['name']}: figures written to {r['json']}")
+    for m in results:
+        print(f"{m.spec.name}: figures written to {m.json}")
+    if csv is not None:
+        from .emit.summary import plural
+        from .synth.measure import all_records
+
+        print(f"{plural(len(all_records(results)), 'record')} of {plural(len(results), 'spec')} and the + baselines "
+              f"written to {csv}")
     return EXIT_OK
 
 

@@ -49,7 +49,7 @@ def flip_minterm(net, a0: int, b0: int, c0: int, bit: int):
     for lit in literals[1:]:
         hit = add("AND2", hit, lit)
     outs = {p.name: list(p.bits) for p in net.outputs}
-    port, j = ("sum", bit) if bit < net.width else ("cout", 0)
+    port, j = ("sum", bit) if bit < net.iface.width else ("cout", 0)
     outs[port][j] = add("XOR2", outs[port][j], hit)
     return replace(net, nodes=tuple(nodes),
                    outputs=tuple(Port(p.name, tuple(outs[p.name]), p.scalar) for p in net.outputs))

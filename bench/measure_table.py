@@ -40,15 +40,14 @@ def run(widths: list[int]) -> list[dict]:
     out = []
     with tempfile.TemporaryDirectory(prefix="adder_forge_table_") as tmp:
         for w in widths:
-            # One call a width, `+` first: the report then uses that row as every other row's baseline.
+            # One call a width; the `+` row is measured as a spec of its own, like every other row.
             specs = [make_spec(f"t_{scheme}_{opts.get('prefix', 'x').replace('-', '_')}_{w}", w, scheme, **opts)
                      for _, scheme, opts in ROWS]
             t = time.perf_counter()
             res = measure_specs(specs, FLOWS, Path(tmp), progress=lambda m: print("   ", m, file=sys.stderr, flush=True))
             print(f"{w} bits: {time.perf_counter() - t:.1f} s", flush=True)
-            for (label, _, _), r in zip(ROWS, res):
-                out.append({"label": label, "width": w,
-                            **{k: r[k] for k in ("netlist_gate_equiv", "estimates", "synthesis")}})
+            for (label, _, _), m in zip(ROWS, res):
+                out.append({"label": label, "width": w, "figures": m.figures.values(), "errors": m.figures.errors()})
     return out
 
 
@@ -57,19 +56,18 @@ def _f(v, fmt="{}"):
 
 
 def row_cells(r: dict) -> list[str]:
-    e, s = r["estimates"], r["synthesis"]
-    g, l6, ic = s["generic"], s["lut6"], s["ice40"]
+    """One row of the page from the spec's measurement records (figure name -> value)."""
+    f, err = r["figures"], r["errors"]
 
-    def pair(d, a, b):
-        return "error" if "error" in d else f"{d[a][b[0]]} / {d[a][b[1]]}"
+    def two(flow, a, b, sep=" / "):
+        return "error" if flow in err else f"{f[a]}{sep}{f[b]}"
 
-    le = "-" if e["le_tau"] is None else f"{e['le_tau']:.1f} ({e['le_fo4']:.1f})"
+    le = "-" if f.get("le_tau") is None else f"{f['le_tau']:.1f} ({f['le_fo4']:.1f})"
     return [
-        r["label"], str(r["width"]), _f(r.get("netlist_gate_equiv")), _f(e["unit_gate_delay"]), le,
-        pair(g, "structure", ("cells", "depth")), pair(g, "abc_delay", ("cells", "depth")),
-        "error" if "error" in l6 else f"{l6['luts']} / {l6['depth']}",
-        "error" if "error" in ic else f"{ic['lut4']} + {ic['carry']}",
-        "error" if "error" in ic else f"{ic['fmax_mhz']:.2f}",
+        r["label"], str(r["width"]), _f(f.get("netlist_gate_equiv")), _f(f.get("unit_gate_delay")), le,
+        two("generic", "yosys_cells", "yosys_depth"), two("generic", "abc_cells", "abc_depth"),
+        two("lut6", "lut6_luts", "lut6_depth"), two("ice40", "ice40_lut4", "ice40_carry", " + "),
+        "error" if "ice40" in err else f"{f['ice40_fmax_mhz']:.2f}",
     ]
 
 
@@ -87,7 +85,7 @@ def markdown(results: list[dict], widths: list[int]) -> str:
 
 
 def ordering(results: list[dict], width: int = 64) -> str:
-    le = {r["label"]: r["estimates"]["le_tau"] for r in results if r["width"] == width}
+    le = {r["label"]: r["figures"].get("le_tau") for r in results if r["width"] == width}
     if not all(le.get(k) for k in ("ripple", "Brent-Kung", "Sklansky", "Kogge-Stone")):
         return ""
     ok = le["ripple"] > 3 * max(le["Brent-Kung"], le["Sklansky"], le["Kogge-Stone"]) and \
@@ -107,10 +105,10 @@ def plot(results: list[dict], widths: list[int]) -> None:
     import matplotlib.pyplot as plt
 
     panels = [
-        ("logical-effort delay (FO4)", lambda r: r["estimates"]["le_fo4"]),
-        ("ABC-mapped depth (cells, delay script)", lambda r: r["synthesis"]["generic"].get("abc_delay", {}).get("depth")),
-        ("LUT6 depth", lambda r: r["synthesis"]["lut6"].get("depth")),
-        ("iCE40 UP5K Fmax (MHz)", lambda r: r["synthesis"]["ice40"].get("fmax_mhz")),
+        ("logical-effort delay (FO4)", lambda r: r["figures"].get("le_fo4")),
+        ("ABC-mapped depth (cells, delay script)", lambda r: r["figures"].get("abc_depth")),
+        ("LUT6 depth", lambda r: r["figures"].get("lut6_depth")),
+        ("iCE40 UP5K Fmax (MHz)", lambda r: r["figures"].get("ice40_fmax_mhz")),
     ]
     fig, axes = plt.subplots(2, 2, figsize=(11, 8))
     colours = plt.rcParams["axes.prop_cycle"].by_key()["color"]
@@ -134,34 +132,31 @@ def plot(results: list[dict], widths: list[int]) -> None:
     fig.savefig(PLOT, dpi=110)
 
 
-def _get(results, label, width, *path):
+def _get(results, label, width, figure):
     for r in results:
         if r["label"] == label and r["width"] == width:
-            d = r
-            for k in path:
-                d = d.get(k) if isinstance(d, dict) else None
-            return d
+            return r["figures"].get(figure)
     return None
 
 
 def reading(results: list[dict], widths: list[int]) -> str:
     """Observations computed from the figures, so that the prose cannot drift from the table."""
     out = []
-    plus = [_get(results, ROWS[0][0], w, "synthesis", "generic", "structure", "depth") for w in widths]
-    bk = [_get(results, "Brent-Kung", w, "synthesis", "generic", "structure", "depth") for w in widths]
+    plus = [_get(results, ROWS[0][0], w, "yosys_depth") for w in widths]
+    bk = [_get(results, "Brent-Kung", w, "yosys_depth") for w in widths]
     if all(plus) and all(bk):
         out.append(f"- Before ABC, Yosys's own `+` is {', '.join(map(str, plus))} cells deep at {', '.join(map(str, widths))} "
                    f"bits, close to Brent-Kung ({', '.join(map(str, bk))}): a logarithmic tree, not a ripple.")
     for w in widths[-1:]:
-        depths = {label: _get(results, label, w, "synthesis", "generic", "abc_delay", "depth") for label, _, _ in ROWS}
+        depths = {label: _get(results, label, w, "abc_depth") for label, _, _ in ROWS}
         if all(depths.values()):
             out.append(f"- After ABC's delay script every adder at {w} bits, ripple included, is "
                        f"{min(depths.values())} to {max(depths.values())} cells deep: ABC restructures the carry "
                        "logic, so the netlist, no-ABC and estimate columns are the ones that tell the schemes apart.")
     cross = None
     for w in widths:
-        f_plus = _get(results, ROWS[0][0], w, "synthesis", "ice40", "fmax_mhz")
-        best = max((_get(results, label, w, "synthesis", "ice40", "fmax_mhz") or 0, label) for label, _, _ in ROWS[1:])
+        f_plus = _get(results, ROWS[0][0], w, "ice40_fmax_mhz")
+        best = max((_get(results, label, w, "ice40_fmax_mhz") or 0, label) for label, _, _ in ROWS[1:])
         if f_plus and best[0] > f_plus and cross is None:
             cross = (w, best[1], best[0], f_plus)
     if cross:
@@ -170,7 +165,7 @@ def reading(results: list[dict], widths: list[int]) -> str:
     else:
         out.append(f"- On the iCE40 `+` uses the hard carry chain (one SB_CARRY a bit) and is the fastest adder at "
                    f"every width here.")
-    same = [w for w in widths if len({_get(results, label, w, "synthesis", "ice40", "fmax_mhz")
+    same = [w for w in widths if len({_get(results, label, w, "ice40_fmax_mhz")
                                       for label in ("ripple", "Brent-Kung", "Sklansky")}) == 1]
     if same:
         out.append(f"- synth_ice40 re-maps the logic with ABC too: at {', '.join(map(str, same))} bits ripple, "

@@ -26,7 +26,8 @@ from common import best_of, save
 
 from adder_forge.emit.design import design
 from adder_forge.checks.builtin import check, default_workers
-from adder_forge.checks.simulators import commands, outcomes, stage
+from adder_forge.checks.outcome import outcomes
+from adder_forge.checks.simulators import Verilator
 from adder_forge.spec.loader import make_spec
 from adder_forge.base.tools import run
 from adder_forge.emit.vectors import make_plan
@@ -37,8 +38,9 @@ SEED = 1
 def verilator_rate(d, repeat: int = 3) -> dict:
     with tempfile.TemporaryDirectory(prefix="adder_forge_bench_") as tmp:
         wd = Path(tmp)
-        files, top, defines = stage([d], wd)
-        build, execute = commands("verilator", files, top, defines, wd, 3600, quick=False)  # Verilator at its own optimisation: a fair rate
+        sim = Verilator(timeout=3600, quick=False)  # Verilator at its own optimisation: a fair rate
+        steps = sim.steps(sim.stage([d], wd))
+        (build,), (execute,) = steps.build, [r.command for r in steps.runs]
         b = run(build)
         if not b.ok:
             print("verilator build failed:\n" + b.tail(15))
@@ -76,7 +78,7 @@ def exhaustive12(repeat: int = 3) -> list[dict]:
 def main(random_count: int) -> int:
     spec = make_spec("ks64", 64, "prefix", prefix="kogge-stone")
     t = time.perf_counter()
-    d = design(spec, tb_random=random_count, seed=SEED)
+    d = design(spec, tb_random=random_count, seed=SEED, tb_max_bytes=1 << 26)  # the whole plan: 50 MB
     print(f"64-bit Kogge-Stone, {d.testbench.count} vectors ({d.plan}); testbench written in "
           f"{time.perf_counter() - t:.1f} s", flush=True)
     vl = verilator_rate(d)

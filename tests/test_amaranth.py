@@ -75,7 +75,7 @@ def simulate(comp, vectors, first: bool = False) -> list[tuple]:
     """Mismatches (a, b, cin, expected, got) of the component against Python's a + b + cin; ``first``
     stops at the first one."""
     net = comp.network
-    w = net.width
+    w = net.iface.width
     has_cin, has_cout = net.port("cin") is not None, net.port("cout") is not None
     modulus = 1 << (w + has_cout)
     bad: list[tuple] = []

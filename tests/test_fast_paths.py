@@ -7,6 +7,7 @@ import pytest
 
 from adder_forge.emit import vectors as v
 from adder_forge.ir.builder import Builder
+from adder_forge.ir.interface import OPERATIONS, adder
 from adder_forge.checks.builtin import check
 from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec
@@ -25,11 +26,23 @@ def test_bulk_random_vectors_are_the_call_by_call_ones(width, carry_in):
 
 @pytest.mark.parametrize("width", WIDTHS)
 def test_limb_addition_is_python_integer_addition(width):
-    vs = v.random_set(width, True, 500, 3)
     m = (1 << width) - 1
-    extremes = v.from_triples(width, [(m, m, 1), (m, 0, 1), (m, 1, 0), (0, 0, 0)])
-    for s in (vs, extremes):
-        assert (v.expected(s) == v.expected_slow(s)).all()
+    for op in OPERATIONS:
+        sub = op == "add-subtract"
+        vs = v.random_set(width, True, 500, 3, sub)
+        ext = [(m, m, 1), (m, 0, 1), (m, 1, 0), (0, 0, 0), (m >> 1, m >> 1, 1), (m ^ m >> 1, m ^ m >> 1, 0)]
+        extremes = v.from_triples(width, [t + (k % 2,) for k, t in enumerate(ext)] if sub else ext)
+        for ci in (True, False):
+            for co in (True, False):
+                for ov in (True, False):
+                    iface = adder(width, ci, co, op, ov)
+                    for s in (vs, extremes):
+                        assert (v.expected(s, iface) == v.expected_slow(s, iface)).all(), (op, ci, co, ov)
+    # and the plain add against Python's + with no interface in between
+    vs = v.random_set(width, True, 200, 5)
+    want = [a + b + c for a, b, c in vs.triples()]
+    got = v.expected(vs, adder(width))
+    assert [int.from_bytes(r.astype("<u8").tobytes(), "little") for r in got] == want
 
 
 def naive_planes(arr: np.ndarray, nbits: int) -> np.ndarray:
@@ -46,7 +59,7 @@ def naive_planes(arr: np.ndarray, nbits: int) -> np.ndarray:
 @pytest.mark.parametrize("width,count", [(1, 70), (7, 130), (64, 64), (65, 200), (130, 100)])
 def test_bit_planes_match_a_bit_by_bit_transposition(width, count):
     vs = v.random_set(width, True, count, 11)
-    for arr, nbits in ((vs.a, width), (v.expected(vs), width + 1), (vs.cin.reshape(-1, 1), 1)):
+    for arr, nbits in ((vs.a, width), (v.expected(vs, adder(width)), width + 1), (vs.cin.reshape(-1, 1), 1)):
         assert (v.to_planes(arr, nbits) == naive_planes(arr, nbits)).all()
 
 

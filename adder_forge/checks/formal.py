@@ -45,7 +45,8 @@ class Proof:
     log: str
     claim: str = ""  # what was proved (or refuted) for this adder's ports, e.g. "{cout, sum} = a + b + cin"
     reason: str = ""  # why it failed when no input is to blame: an x constant, a loop, two drivers, ...
-    undefined: int = 0  # in the counterexample, the bits of {cout, sum} that were x rather than 0 or 1
+    undefined: int = 0  # in the counterexample, the packed output bits that were x rather than 0 or 1
+    undefined_names: tuple[str, ...] = ()  # ... by port and bit, e.g. ("sum[0]", "cout")
 
     def describe(self, width: int) -> str:
         """One line for a report row."""
@@ -55,34 +56,18 @@ class Proof:
             return f"not proved: {self.reason or 'no result'}"
         text = f"counterexample: {self.counterexample.describe(width)}"
         if self.undefined:
-            bits = [i for i in range(self.undefined.bit_length()) if self.undefined >> i & 1]
-            names = ["cout" if i == width else f"sum[{i}]" for i in bits]
+            names = list(self.undefined_names)
             text += " with " + ", ".join(names[:8]) + (" ..." if len(names) > 8 else "") + " x (undefined)"
         return text
 
 
 def claim(net: Network) -> str:
-    rhs = "a + b + cin" if net.port("cin") is not None else "a + b"
-    if net.port("cout") is not None:
-        return f"{{cout, sum}} = {rhs}"
-    return f"sum = ({rhs}) mod 2^{net.width}"
+    return net.iface.claim()
 
 
 def reference_module(net: Network, name: str = GOLD) -> str:
-    w = net.width
-    has_cin = net.port("cin") is not None
-    has_cout = net.port("cout") is not None
-    ports = [f"input wire [{w - 1}:0] a", f"input wire [{w - 1}:0] b"]
-    if has_cin:
-        ports.append("input wire cin")
-    ports.append(f"output wire [{w - 1}:0] sum")
-    if has_cout:
-        ports.append("output wire cout")
-    carry = f" + {{{w}'d0, cin}}" if has_cin else ""
-    body = [f"    wire [{w}:0] t = {{1'b0, a}} + {{1'b0, b}}{carry};", f"    assign sum = t[{w - 1}:0];"]
-    if has_cout:
-        body.append(f"    assign cout = t[{w}];")
-    return f"module {name} (\n    " + ",\n    ".join(ports) + "\n);\n" + "\n".join(body) + "\nendmodule\n"
+    """The proof's other side: the interface's reference in Verilog, with the design's ports."""
+    return net.iface.verilog_reference(name)
 
 
 # -- x and z in the source ----------------------------------------------------------------------------------
@@ -195,7 +180,13 @@ def _verdict(net: Network, text: str, seconds: float) -> Proof:
     cex, undefined = (None, 0) if proved else counterexample(text, net)
     reason = "" if proved or cex else "Yosys found a model but printed no input values"
     return Proof(net.name, proved, seconds, cex, "\n".join(text.strip().splitlines()[-25:]), claim(net), reason,
-                 undefined)
+                 undefined, bit_names(net, undefined))
+
+
+def bit_names(net: Network, mask: int) -> tuple[str, ...]:
+    """Port-and-bit names of the set bits of a packed output word."""
+    names = [p.name if p.scalar else f"{p.name}[{j}]" for p in net.iface.outputs for j in range(p.width)]
+    return tuple(n for i, n in enumerate(names) if mask >> i & 1)
 
 
 def counterexample(log: str, net: Network) -> tuple[Mismatch | None, int]:
@@ -208,8 +199,11 @@ def counterexample(log: str, net: Network) -> tuple[Mismatch | None, int]:
         undef[m.group(1)] = int(re.sub("[^xz]", "0", bits).replace("x", "1").replace("z", "1"), 2)
     if "in_a" not in vals:
         return None, 0
-    w = net.width
-    exp = vals.get("gold_sum", 0) | (vals.get("gold_cout", 0) << w)
-    got = vals.get("gate_sum", 0) | (vals.get("gate_cout", 0) << w)
-    x = undef.get("gate_sum", 0) | (undef.get("gate_cout", 0) << w)
-    return Mismatch(vals["in_a"], vals["in_b"], vals.get("in_cin", 0), exp, got), x
+    iface = net.iface
+
+    def packed(prefix: str, table: dict) -> int:
+        return iface.pack_outputs({p.name: table.get(f"{prefix}_{p.name}", 0) for p in iface.outputs})
+
+    sub = vals.get("in_sub", 0) if iface.has("sub") else None
+    return Mismatch(vals["in_a"], vals["in_b"], vals.get("in_cin", 0), packed("gold", vals), packed("gate", vals),
+                    sub), packed("gate", undef)

@@ -1,4 +1,7 @@
-"""Running GHDL on the emitted VHDL: analyse, run the VHDL testbenches, synthesize to Verilog.
+"""GHDL on the emitted VHDL: the commands that analyse, run the VHDL testbenches and synthesize to Verilog.
+
+The simulator class that `verify` and ``simulators.simulate`` use is ``simulators.Ghdl``; it builds its
+commands with the functions here.
 
 GHDL from Debian (package ghdl, GHDL 2.0, mcode back end) analyses into a work library in the folder it runs
 in; mcode elaborates in memory, so ``--elab-run`` runs a testbench without building an executable, and
@@ -12,7 +15,6 @@ import re
 from pathlib import Path
 
 from ..base.errors import ToolError
-from .simulators import SimOutcome, outcomes
 from ..base.tools import Command, Result, find, run
 from ..emit.vhdl import STD
 
@@ -66,16 +68,6 @@ def analyse(files: list[str], workdir: Path, timeout: float = 3600) -> Result:
     if not r.ok:
         raise ToolError("ghdl could not analyse the VHDL", r.tail(15))
     return r
-
-
-def simulate(designs, workdir: Path, timeout: float = 3600) -> list[SimOutcome]:
-    """Analyse every design once, then run each VHDL testbench against its vectors file."""
-    workdir = Path(workdir)
-    analyse(stage(designs, workdir), workdir, timeout)
-    results: list[SimOutcome] = []
-    for d in designs:
-        results += outcomes([d], "ghdl", run(run_command(f"{d.spec.name}_tb", workdir, timeout=timeout)))
-    return results
 
 
 def synthesize(name: str, workdir: Path, timeout: float = 3600) -> str:

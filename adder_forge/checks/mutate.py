@@ -143,7 +143,7 @@ def mutant_design(base, mutant: Mutant):
 
     name = module_name(mutant)
     s = base.spec
-    tb = emit_testbench(name, s.width, s.carry_in, s.carry_out, base.testbench.plan, base.testbench.pick.max_bytes,
+    tb = emit_testbench(name, base.net.iface, base.testbench.plan, base.testbench.pick.max_bytes,
                         vectors_file=base.testbench.vectors_file)
     # the network keeps the base function and ports; only its name changes, for formal.prove's miter
     return replace(base, spec=replace(s, name=name), net=replace(base.net, name=name), verilog=mutant.verilog,

@@ -9,9 +9,9 @@ from ..analysis.structure import metrics
 from ..schemes import elaborate
 from .summary import header_lines, report, to_json
 from ..spec.loader import Spec
-from .testbench import Testbench, emit_testbench, line_bytes
+from .testbench import Testbench, emit_testbench, line_bits, line_bytes
 from .verilog import emit_module
-from .vectors import make_plan
+from .vectors import plan_for
 
 TB_EXHAUSTIVE_LIMIT = 1 << 20  # the emitted testbench enumerates every input up to this many vectors
 TB_RANDOM = 2000  # random vectors beside the directed ones when it does not
@@ -54,8 +54,9 @@ def design(spec: Spec, net: Network | None = None, tb_random: int = TB_RANDOM, s
     net = net if net is not None else elaborate(spec)
     m = metrics(net)
     # exhaustive only when the whole enumeration fits the file cap; a sampled enumeration would be neither
-    limit = min(tb_exhaustive_limit, tb_max_bytes // line_bytes(spec.width))
-    plan = make_plan(spec.width, spec.carry_in, limit, tb_random, seed)
-    tb = emit_testbench(spec.name, spec.width, spec.carry_in, spec.carry_out, plan, tb_max_bytes)
+    iface = net.iface
+    limit = min(tb_exhaustive_limit, tb_max_bytes // line_bytes(line_bits(iface)))
+    plan = plan_for(iface, limit, tb_random, seed)
+    tb = emit_testbench(spec.name, iface, plan, tb_max_bytes)
     return Design(spec, net, m, emit_module(net, header_lines(spec, m, net.meta)), tb,
                   plan.describe() + tb.pick.summary())

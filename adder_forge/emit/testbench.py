@@ -1,6 +1,9 @@
-"""The self-checking testbench and its vector file, expected values by Python integer addition.
+"""The self-checking testbench and its vector file, expected values by the interface's reference.
 
-The file holds the vectors of a ``vectors.Plan`` in the plan's order, one hex line each. A plan whose file
+The file holds the vectors of a ``vectors.Plan`` in the plan's order, one hex line each: the data inputs
+packed as ``Interface.pack_inputs`` packs them, above the expected outputs packed as ``pack_outputs``
+packs them (add with both carries: {cin, b, a, cout, sum}). The template is generic over the
+interface's ports, so a new port needs no template change. A plan whose file
 would pass a byte cap is sampled (see ``Sample``), so that a 16384-bit adder does not get a 629 MB file:
 every line is still a vector of the plan, so the built-in check, which runs the whole plan, covers a
 superset of what the simulators see.
@@ -16,27 +19,32 @@ from typing import Iterator
 import numpy as np
 
 from ..base.version import __version__
-from .vectors import Plan, directed, space_bits
+from .vectors import Plan, directed, expected
 
 SAMPLE_HEAD = 32  # directed patterns always kept: both extremes, all-ones plus one, alternating bits, short runs
 MIN_VECTORS = 64  # a file never holds fewer (only a width over about 40000 bits would pass the cap with them)
 
 
-def line_bytes(width: int) -> int:
-    """Bytes of one vector line: {a, b, cin, cout, sum} in hex and a newline."""
-    return (3 * width + 2 + 3) // 4 + 1
+def line_bits(iface) -> int:
+    """Bits of one vector line: the data inputs, then the expected outputs."""
+    return iface.in_bits + iface.out_bits
+
+
+def line_bytes(bits: int) -> int:
+    """Bytes of one vector line of ``bits`` bits in hex, and a newline."""
+    return (bits + 3) // 4 + 1
 
 
 @lru_cache(maxsize=64)
-def _directed_count(width: int, carry_in: bool) -> int:
-    return len(directed(width, carry_in))  # 4.5 s at 16384 bits, so once a width
+def _directed_count(width: int, carry_in: bool, operation: str) -> int:
+    return len(directed(width, carry_in, operation))  # 4.5 s at 16384 bits, so once a width
 
 
 def plan_size(plan: Plan) -> tuple[int, int]:
     """(directed, random) vector counts of the plan; exhaustive plans count as directed."""
     if plan.exhaustive:
-        return 1 << space_bits(plan.width, plan.carry_in), 0
-    return _directed_count(plan.width, plan.carry_in), plan.random_count
+        return 1 << plan.bits, 0
+    return _directed_count(plan.width, plan.carry_in, plan.operation), plan.random_count
 
 
 @dataclass(frozen=True)
@@ -53,9 +61,10 @@ class Sample:
     line_bytes: int
 
     @classmethod
-    def of(cls, plan: Plan, max_bytes: int) -> "Sample":
+    def of(cls, plan: Plan, max_bytes: int, bits: int) -> "Sample":
+        """``bits``: of one line (``line_bits``)."""
         d, r = plan_size(plan)
-        lb = line_bytes(plan.width)
+        lb = line_bytes(bits)
         budget = max(MIN_VECTORS, max_bytes // lb)
         if d + r <= budget:
             return cls(d, r, d, r, max_bytes, lb)
@@ -113,15 +122,17 @@ class Sample:
         return f"; file capped at {self.max_bytes / 2**20:g} MiB: {self.count} of {self.directed + self.random}"
 
 
-def vector_lines(plan: Plan, carry_out: bool, pick: Sample | None = None) -> Iterator[str]:
-    """One hex line a vector, {a, b, cin, cout, sum}, in plan order; cout is 0 when the adder has none.
+def vector_lines(plan: Plan, iface, pick: Sample | None = None) -> Iterator[str]:
+    """One hex line a vector, {inputs, expected outputs}, in plan order, expected by the interface's reference.
 
     The plan is walked chunk by chunk and only the picked vectors become lines, so memory stays at one
     chunk however large the plan; iteration stops after the last picked vector.
     """
-    w = plan.width
-    digits = (3 * w + 2 + 3) // 4
-    mask = (1 << (w + 1 if carry_out else w)) - 1
+    bits = line_bits(iface)
+    digits = (bits + 3) // 4
+    out_bits = iface.out_bits
+    inputs = iface.inputs
+    offsets = iface.offsets(inputs)
     wanted = None if pick is None or pick.whole else pick.indices()
     last = None if wanted is None else (int(wanted[-1]) if wanted.size else -1)
     start = 0
@@ -132,18 +143,17 @@ def vector_lines(plan: Plan, carry_out: bool, pick: Sample | None = None) -> Ite
         else:
             lo, hi = np.searchsorted(wanted, [start, start + n])
             local = wanted[lo:hi] - start
-        if w <= 10 and local is None:  # the packed line fits 32 bits: stay in numpy (exhaustive sets are large)
-            a = vs.a[:, 0]
-            b = vs.b[:, 0]
-            c = vs.cin
-            s = (a + b + c) & np.uint64(mask)  # reference: integer addition
-            packed = (((a << np.uint64(w)) | b) << np.uint64(1) | c) << np.uint64(w + 1) | s
+        if bits <= 64 and local is None:  # a line fits one word: stay in numpy (exhaustive sets are large)
+            cols = {"a": vs.a[:, 0], "b": vs.b[:, 0], "cin": vs.cin, "sub": vs.sub}
+            packed = expected(vs, iface)[:, 0].copy()
+            for p in inputs:
+                packed |= cols[p.name] << np.uint64(out_bits + offsets[p.name])
             yield from (f"{int(x):0{digits}x}\n" for x in packed.tolist())
         else:
             for k in (range(n) if local is None else local.tolist()):
-                a, b, c = vs.ints(k)
-                s = (a + b + c) & mask  # reference: Python integer addition
-                yield f"{((((a << w) | b) << 1 | c) << (w + 1)) | s:0{digits}x}\n"
+                values = vs.values(k)
+                line = iface.pack_inputs(values) << out_bits | iface.expected(values)
+                yield f"{line:0{digits}x}\n"
         start += n
         if last is not None and start > last:
             break
@@ -154,12 +164,17 @@ class Testbench:
     verilog: str
     count: int
     plan: Plan
-    carry_out: bool
+    iface: object  # ir.interface.Interface
     pick: Sample
     vectors_file: str  # the file it reads by default; several testbenches may share one
 
+    @property
+    def duration(self) -> int:
+        """Simulation time units the testbench needs for its vectors (the batch top waits this long)."""
+        return self.count * STEP + 2
+
     def lines(self) -> Iterator[str]:
-        return vector_lines(self.plan, self.carry_out, self.pick)
+        return vector_lines(self.plan, self.iface, self.pick)
 
     @cached_property
     def vectors_hex(self) -> str:
@@ -178,16 +193,29 @@ class Testbench:
         return n
 
 
-def emit_testbench(name: str, width: int, carry_in: bool, carry_out: bool, plan: Plan, max_bytes: int,
-                   vectors_file: str | None = None) -> Testbench:
+STEP = 1  # time units from applying a vector to comparing its result (the `settle` task)
+
+
+def port_fields(iface) -> tuple[list[dict], list[dict]]:
+    """Each data input's and output's place in a vector line (bit ranges of the packed input word and of
+    the packed output word), for the templates."""
+    def fields(pins, offsets):
+        return [{"name": p.name, "lsb": offsets[p.name], "msb": offsets[p.name] + p.width - 1,
+                 "width": p.width, "scalar": p.scalar} for p in pins]
+
+    return fields(iface.inputs, iface.offsets(iface.inputs)), fields(iface.outputs, iface.offsets(iface.outputs))
+
+
+def emit_testbench(name: str, iface, plan: Plan, max_bytes: int, vectors_file: str | None = None) -> Testbench:
     """The testbench text and its (lazily made) vectors; ``vectors_file`` is the default file it reads."""
     from .templating import render
 
-    pick = Sample.of(plan, max_bytes)
+    pick = Sample.of(plan, max_bytes, line_bits(iface))
     vectors_file = vectors_file or f"{name}_vectors.hex"
-    text = render("testbench.v.j2", name=name, width=width, count=pick.count, carry_in=carry_in,
-                  carry_out=carry_out, plan=plan.describe(), version=__version__,
-                  vectors_file=vectors_file, selection=pick.describe(),
-                  cap=f"{max_bytes / 2**20:g} MiB", line_bytes=pick.line_bytes,
+    inputs, outputs = port_fields(iface)
+    text = render("testbench.v.j2", name=name, count=pick.count, inputs=inputs, outputs=outputs,
+                  in_bits=iface.in_bits, out_bits=iface.out_bits, plan=plan.describe(), version=__version__,
+                  vectors_file=vectors_file, selection=pick.describe(), claim=iface.claim(),
+                  cap=f"{max_bytes / 2**20:g} MiB", line_bytes=pick.line_bytes, step=STEP,
                   cap_vectors=pick.budget)
-    return Testbench(text, pick.count, plan, carry_out, pick, vectors_file)
+    return Testbench(text, pick.count, plan, iface, pick, vectors_file)

@@ -13,6 +13,8 @@ from typing import Iterator
 
 import numpy as np
 
+from ..ir.interface import sign_overflow
+
 
 def limbs(width: int) -> int:
     return (width + 63) // 64
@@ -25,6 +27,7 @@ class VectorSet:
     b: np.ndarray  # (V, limbs) uint64
     cin: np.ndarray  # (V,) uint64, 0 or 1
     index0: int | None = None  # set when the vectors are the exhaustive enumeration from this index on
+    sub: np.ndarray | None = None  # (V,) uint64, 0 or 1: the add-subtract select, when the adder has one
 
     def __len__(self) -> int:
         return self.a.shape[0]
@@ -32,12 +35,19 @@ class VectorSet:
     def part(self, start: int, stop: int) -> "VectorSet":
         """Vectors start .. stop - 1 (start a multiple of 64 keeps the exhaustive fast path)."""
         index0 = None if self.index0 is None else self.index0 + start
-        return VectorSet(self.width, self.a[start:stop], self.b[start:stop], self.cin[start:stop], index0)
+        sub = None if self.sub is None else self.sub[start:stop]
+        return VectorSet(self.width, self.a[start:stop], self.b[start:stop], self.cin[start:stop], index0, sub)
 
-    def ints(self, k: int) -> tuple[int, int, int]:
-        return _limbs_to_int(self.a[k]), _limbs_to_int(self.b[k]), int(self.cin[k])
+    def ints(self, k: int) -> tuple[int, ...]:
+        """(a, b, cin), or (a, b, cin, sub) when the vectors drive a sub input."""
+        t = (_limbs_to_int(self.a[k]), _limbs_to_int(self.b[k]), int(self.cin[k]))
+        return t if self.sub is None else t + (int(self.sub[k]),)
 
-    def triples(self) -> Iterator[tuple[int, int, int]]:
+    def values(self, k: int) -> dict[str, int]:
+        """Vector k as port role -> value (the interface's reference takes this)."""
+        return dict(zip(("a", "b", "cin", "sub"), self.ints(k)))
+
+    def triples(self) -> Iterator[tuple[int, ...]]:
         for k in range(len(self)):
             yield self.ints(k)
 
@@ -52,21 +62,24 @@ def _ints_to_limbs(xs: list[int], width: int) -> np.ndarray:
     return np.frombuffer(raw, dtype="<u8").reshape(len(xs), n).astype(np.uint64)
 
 
-def from_triples(width: int, triples: list[tuple[int, int, int]]) -> VectorSet:
+def from_triples(width: int, triples: list[tuple[int, ...]]) -> VectorSet:
+    """Vectors from (a, b, cin) or (a, b, cin, sub) tuples (all of one length)."""
     a = _ints_to_limbs([t[0] for t in triples], width)
     b = _ints_to_limbs([t[1] for t in triples], width)
     cin = np.array([t[2] for t in triples], dtype=np.uint64)
-    return VectorSet(width, a, b, cin)
+    sub = np.array([t[3] for t in triples], dtype=np.uint64) if triples and len(triples[0]) > 3 else None
+    return VectorSet(width, a, b, cin, None, sub)
 
 
-def space_bits(width: int, carry_in: bool) -> int:
-    return 2 * width + (1 if carry_in else 0)
+def space_bits(width: int, carry_in: bool, sub: bool = False) -> int:
+    return 2 * width + (1 if carry_in else 0) + (1 if sub else 0)
 
 
-def exhaustive_chunks(width: int, carry_in: bool, chunk: int = 1 << 20) -> Iterator[VectorSet]:
-    """Every input combination, in index order (a in the low bits, then b, then cin)."""
-    total = 1 << space_bits(width, carry_in)
-    if space_bits(width, carry_in) > 63:
+def exhaustive_chunks(width: int, carry_in: bool, chunk: int = 1 << 20, sub: bool = False) -> Iterator[VectorSet]:
+    """Every input combination, in index order (a in the low bits, then b, then cin, then sub)."""
+    bits = space_bits(width, carry_in, sub)
+    total = 1 << bits
+    if bits > 63:
         raise ValueError("input space too large for exhaustive enumeration")
     mask = np.uint64((1 << width) - 1)
     for start in range(0, total, chunk):
@@ -74,12 +87,39 @@ def exhaustive_chunks(width: int, carry_in: bool, chunk: int = 1 << 20) -> Itera
         a = (k & mask).reshape(-1, 1)
         b = ((k >> np.uint64(width)) & mask).reshape(-1, 1)
         cin = (k >> np.uint64(2 * width)) & np.uint64(1) if carry_in else np.zeros_like(k)
-        yield VectorSet(width, a, b, cin, start)
+        s = (k >> np.uint64(bits - 1)) & np.uint64(1) if sub else None
+        yield VectorSet(width, a, b, cin, start, s)
 
 
-def directed(width: int, carry_in: bool) -> list[tuple[int, int, int]]:
+def directed(width: int, carry_in: bool, operation: str = "add") -> list[tuple[int, ...]]:
     """Carry-chain patterns (common practice): extremes, all-ones plus one, alternating bits, and a single
-    propagate run of every length, started by a generate (or the carry-in) just below it."""
+    propagate run of every length, started by a generate (or the carry-in) just below it.
+
+    The patterns are written for the addend the carry network sees: a subtraction adds ~b, so its b is
+    the pattern inverted, and add-subtract gets every pattern once as an add (sub = 0) and once as a
+    subtraction (sub = 1), as (a, b, cin, sub).
+    """
+    if operation == "add":
+        return _directed_add(width, carry_in)
+    m = (1 << width) - 1
+    if operation == "subtract":
+        # without a carry-in port the carry into the network is 1: the patterns are those of a carry-in
+        return _uniq([(a, y ^ m, c if carry_in else 0) for a, y, c in _directed_add(width, True)])
+    plus = [(a, y, c, 0) for a, y, c in _directed_add(width, carry_in)]
+    minus = [(a, y ^ m, c if carry_in else 0, 1) for a, y, c in _directed_add(width, True)]
+    return _uniq(plus + minus)
+
+
+def _uniq(items: list) -> list:
+    seen, out = set(), []
+    for t in items:
+        if t not in seen:
+            seen.add(t)
+            out.append(t)
+    return out
+
+
+def _directed_add(width: int, carry_in: bool) -> list[tuple[int, int, int]]:
     m = (1 << width) - 1
     alt = int("01" * width, 2) & m
     cins = (0, 1) if carry_in else (0,)
@@ -110,13 +150,16 @@ def directed(width: int, carry_in: bool) -> list[tuple[int, int, int]]:
     return uniq
 
 
-def random_triples(width: int, carry_in: bool, count: int, seed: int) -> list[tuple[int, int, int]]:
+def random_triples(width: int, carry_in: bool, count: int, seed: int, sub: bool = False) -> list[tuple[int, ...]]:
     rng = random.Random(seed)
+    if sub:
+        return [(rng.getrandbits(width), rng.getrandbits(width), rng.getrandbits(1) if carry_in else 0,
+                 rng.getrandbits(1)) for _ in range(count)]
     return [(rng.getrandbits(width), rng.getrandbits(width), rng.getrandbits(1) if carry_in else 0)
             for _ in range(count)]
 
 
-def random_set(width: int, carry_in: bool, count: int, seed: int) -> VectorSet:
+def random_set(width: int, carry_in: bool, count: int, seed: int, sub: bool = False) -> VectorSet:
     """The vectors of ``random_triples(width, carry_in, count, seed)``, drawn in bulk.
 
     CPython's ``getrandbits(k)`` takes ceil(k/32) 32-bit Mersenne Twister outputs, least significant
@@ -125,10 +168,10 @@ def random_set(width: int, carry_in: bool, count: int, seed: int) -> VectorSet:
     triples of the call-by-call loop (a test compares the two) without a Python loop per vector.
     """
     if sys.byteorder != "little" or count == 0:
-        return from_triples(width, random_triples(width, carry_in, count, seed))
+        return from_triples(width, random_triples(width, carry_in, count, seed, sub))
     rng = random.Random(seed)
     wpv = (width - 1) // 32 + 1  # 32-bit words per operand
-    per = 2 * wpv + (1 if carry_in else 0)
+    per = 2 * wpv + (1 if carry_in else 0) + (1 if sub else 0)
     raw = rng.getrandbits(32 * per * count).to_bytes(4 * per * count, "little")
     top = width - 32 * (wpv - 1)  # bits taken from the last word of an operand
     n = limbs(width)
@@ -154,86 +197,139 @@ def random_set(width: int, carry_in: bool, count: int, seed: int) -> VectorSet:
 
     a = operand(0)
     b = operand(wpv)
-    cin = (np.frombuffer(raw, dtype="<u4").reshape(count, per)[:, 2 * wpv] >> 31).astype(np.uint64) if carry_in \
-        else np.zeros(count, dtype=np.uint64)
-    return VectorSet(width, a, b, cin)
+    tail = np.frombuffer(raw, dtype="<u4").reshape(count, per)
+    cin = (tail[:, 2 * wpv] >> 31).astype(np.uint64) if carry_in else np.zeros(count, dtype=np.uint64)
+    s = (tail[:, per - 1] >> 31).astype(np.uint64) if sub else None
+    return VectorSet(width, a, b, cin, None, s)
 
 
 @dataclass(frozen=True)
 class Plan:
-    """Which vectors a check uses: exhaustive when the space is small enough, else directed + random."""
+    """Which vectors a check uses: exhaustive when the space is small enough, else directed + random.
+
+    ``operation`` is the interface's: it decides whether vectors drive a ``sub`` input and which
+    directed patterns exercise the carry chain."""
 
     width: int
     carry_in: bool
     exhaustive: bool
     random_count: int
     seed: int
+    operation: str = "add"
+
+    @property
+    def sub(self) -> bool:
+        return self.operation == "add-subtract"
+
+    @property
+    def bits(self) -> int:
+        return space_bits(self.width, self.carry_in, self.sub)
 
     def describe(self) -> str:
         if self.exhaustive:
-            return f"exhaustive, 2^{space_bits(self.width, self.carry_in)} vectors"
+            return f"exhaustive, 2^{self.bits} vectors"
         return f"directed carry-chain patterns + {self.random_count} random (seed {self.seed})"
 
     @property
     def count(self) -> int:
         """How many vectors ``chunks()`` yields, without drawing them."""
         if self.exhaustive:
-            return 1 << space_bits(self.width, self.carry_in)
-        return len(directed(self.width, self.carry_in)) + self.random_count
+            return 1 << self.bits
+        return len(directed(self.width, self.carry_in, self.operation)) + self.random_count
 
     def chunks(self, chunk: int = 1 << 20) -> Iterator[VectorSet]:
         if self.exhaustive:
-            yield from exhaustive_chunks(self.width, self.carry_in, chunk)
+            yield from exhaustive_chunks(self.width, self.carry_in, chunk, self.sub)
             return
-        yield from_triples(self.width, directed(self.width, self.carry_in))
+        yield from_triples(self.width, directed(self.width, self.carry_in, self.operation))
         rng_seed = self.seed
         left = self.random_count
         part = 0
         while left > 0:
             n = min(left, max(1, chunk // max(1, limbs(self.width))))
-            yield random_set(self.width, self.carry_in, n, rng_seed * 1000003 + part)
+            yield random_set(self.width, self.carry_in, n, rng_seed * 1000003 + part, self.sub)
             left -= n
             part += 1
 
-    def triples(self) -> list[tuple[int, int, int]]:
+    def triples(self) -> list[tuple[int, ...]]:
         out = []
         for vs in self.chunks():
             out.extend(vs.triples())
         return out
 
 
-def make_plan(width: int, carry_in: bool, exhaustive_limit: int, random_count: int, seed: int) -> Plan:
-    exhaustive = space_bits(width, carry_in) <= 62 and (1 << space_bits(width, carry_in)) <= exhaustive_limit
-    return Plan(width, carry_in, exhaustive, random_count, seed)
+def make_plan(width: int, carry_in: bool, exhaustive_limit: int, random_count: int, seed: int,
+              operation: str = "add") -> Plan:
+    bits = space_bits(width, carry_in, operation == "add-subtract")
+    exhaustive = bits <= 62 and (1 << bits) <= exhaustive_limit
+    return Plan(width, carry_in, exhaustive, random_count, seed, operation)
 
 
-def expected(vs: VectorSet) -> np.ndarray:
-    """Reference results a + b + cin, (V, limbs(width + 1)), by integer addition outside the IR.
+def plan_for(iface, exhaustive_limit: int, random_count: int, seed: int) -> Plan:
+    """The plan for an interface's data inputs."""
+    return make_plan(iface.width, iface.has("cin"), exhaustive_limit, random_count, seed, iface.operation)
 
-    Up to 62 bits one uint64 addition holds the whole sum; wider operands are added limb by limb with the
-    carry between limbs (schoolbook multi-precision addition), which a test compares with Python ints.
+
+def _limb_add(x: np.ndarray, y: np.ndarray, carry: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """One limb of schoolbook multi-precision addition: (x + y + carry mod 2^64, carry out)."""
+    s = x + y
+    c1 = s < x
+    s2 = s + carry
+    return s2, (c1 | (s2 < s)).astype(np.uint64)
+
+
+def expected(vs: VectorSet, iface) -> np.ndarray:
+    """The interface's reference outputs for every vector, packed as ``iface.pack_outputs`` packs them
+    (sum in the low bits, then cout and overflow when present): (V, limbs(out_bits)) uint64.
+
+    The same arithmetic as ``Interface.reference`` on numpy words: the operand conditioning is the
+    interface's own (``condition``); the addition is one uint64 addition up to 62 bits, and above that
+    limb by limb with the carry between limbs (schoolbook multi-precision addition); overflow is the
+    sign rule (same-signed addends, a result of the other sign; common practice). A test holds this equal
+    to the Python reference.
     """
-    if vs.width <= 62:
-        return (vs.a[:, 0] + vs.b[:, 0] + vs.cin).reshape(-1, 1)
-    n_in, n_out = limbs(vs.width), limbs(vs.width + 1)
+    w = vs.width
+    cin = vs.cin if iface.has("cin") else None
+    sub = vs.sub if iface.has("sub") else None
+    extra = [p.role for p in iface.outputs if p.role != "sum"]
+    n_in, n_out = limbs(w), limbs(iface.out_bits)
+    one = np.uint64(1)
+    if w <= 62:
+        return iface.reference_words(vs.a[:, 0], vs.b[:, 0], cin, sub).reshape(-1, 1)
     out = np.zeros((len(vs), n_out), dtype=np.uint64)
-    carry = vs.cin.astype(np.uint64)
+    top_bits = w - 64 * (n_in - 1)
+    carry = np.zeros(len(vs), dtype=np.uint64)
+    ys = []
     for k in range(n_in):
-        x = vs.a[:, k]
-        s = x + vs.b[:, k]
-        c1 = s < x
-        s2 = s + carry
-        carry = (c1 | (s2 < s)).astype(np.uint64)
-        out[:, k] = s2
-    if n_out > n_in:
-        out[:, n_in] = carry
+        m = np.uint64(0xFFFFFFFFFFFFFFFF if k < n_in - 1 else (1 << top_bits) - 1)
+        sub_k = sub
+        y, c = iface.condition(vs.b[:, k], cin, sub_k, m)
+        if k == 0:
+            carry = np.asarray(c, dtype=np.uint64) + np.zeros(len(vs), dtype=np.uint64)
+        out[:, k], carry = _limb_add(vs.a[:, k], y, carry)
+        ys.append(y)
+    # the top limb holds top_bits bits: its carry out of bit w - 1 sits above them
+    hi = out[:, n_in - 1]
+    if top_bits < 64:
+        cout = (hi >> np.uint64(top_bits)) & one
+        hi &= np.uint64((1 << top_bits) - 1)
+        out[:, n_in - 1] = hi
+    else:
+        cout = carry
+    sign = np.uint64(top_bits - 1)
+    bits = []
+    for role in extra:
+        bits.append(cout if role == "cout" else
+                    sign_overflow(vs.a[:, n_in - 1] >> sign, ys[-1] >> sign, hi >> sign) & one)
+    for j, bit in enumerate(bits):
+        at = w + j
+        out[:, at // 64] |= bit << np.uint64(at % 64)
     return out
 
 
-def expected_slow(vs: VectorSet) -> np.ndarray:
-    """The same reference one vector at a time with Python integers (for tests of ``expected``)."""
-    sums = [_limbs_to_int(vs.a[k]) + _limbs_to_int(vs.b[k]) + int(vs.cin[k]) for k in range(len(vs))]
-    return _ints_to_limbs(sums, vs.width + 1)
+def expected_slow(vs: VectorSet, iface) -> np.ndarray:
+    """The same reference one vector at a time through ``Interface.expected`` (for tests of ``expected``)."""
+    return _ints_to_limbs([iface.expected(vs.values(k)) for k in range(len(vs))], iface.out_bits)
 
 
 # -- bit planes ---------------------------------------------------------------------------------------------
@@ -289,8 +385,8 @@ def to_planes(arr: np.ndarray, nbits: int) -> np.ndarray:
     return np.ascontiguousarray(planes)
 
 
-def input_planes(vs: VectorSet, carry_in: bool) -> dict[str, np.ndarray]:
-    """Bit planes of a, b (and cin) for the evaluator.
+def input_planes(vs: VectorSet, carry_in: bool, sub: bool = False) -> dict[str, np.ndarray]:
+    """Bit planes of a, b (and cin, sub) for the evaluator.
 
     A run of the exhaustive enumeration starting at a multiple of 64 needs no transposition: bit j < 6 of
     the vector index is the same pattern in every word, and bit j >= 6 is constant within a word.
@@ -300,11 +396,13 @@ def input_planes(vs: VectorSet, carry_in: bool) -> dict[str, np.ndarray]:
         out = {"a": to_planes(vs.a, w), "b": to_planes(vs.b, w)}
         if carry_in:
             out["cin"] = to_planes(vs.cin.reshape(-1, 1), 1)
+        if sub:
+            out["sub"] = to_planes(vs.sub.reshape(-1, 1), 1)
         return out
     words = (len(vs) + 63) // 64
     word_index = np.arange(words, dtype=np.uint64) + np.uint64(vs.index0 >> 6)
     ones = np.uint64(0xFFFFFFFFFFFFFFFF)
-    index_bits = space_bits(w, carry_in)
+    index_bits = space_bits(w, carry_in, sub)
     planes = np.empty((index_bits, words), dtype=np.uint64)
     for j in range(index_bits):
         if j < 6:
@@ -314,7 +412,14 @@ def input_planes(vs: VectorSet, carry_in: bool) -> dict[str, np.ndarray]:
     out = {"a": planes[:w], "b": planes[w : 2 * w]}
     if carry_in:
         out["cin"] = planes[2 * w : 2 * w + 1]
+    if sub:
+        out["sub"] = planes[index_bits - 1 : index_bits]
     return out
+
+
+def iface_planes(vs: VectorSet, iface) -> dict[str, np.ndarray]:
+    """``input_planes`` for the data inputs of an interface."""
+    return input_planes(vs, iface.has("cin"), iface.has("sub"))
 
 
 def plane_bit(planes: np.ndarray, k: int) -> int:

@@ -210,13 +210,17 @@ def emit_entity(net: Network, header: list[str]) -> str:
                   body=body, numeric=numeric, architecture=ARCHITECTURE)
 
 
-def emit_testbench(name: str, width: int, carry_in: bool, carry_out: bool, count: int, plan: str) -> str:
+def emit_testbench(name: str, iface, count: int, plan: str) -> str:
+    """The VHDL testbench over the Verilog testbench's vectors file, generic over the interface's ports."""
     from ..base.version import __version__
     from .templating import render
+    from .testbench import STEP, line_bits, port_fields
 
-    digits = (3 * width + 2 + 3) // 4  # as testbench.vector_lines writes them
-    return render("testbench.vhd.j2", name=name, width=width, count=count, digits=digits, carry_in=carry_in,
-                  carry_out=carry_out, plan=plan, version=__version__, std=STD)
+    digits = (line_bits(iface) + 3) // 4  # as testbench.vector_lines writes them
+    inputs, outputs = port_fields(iface)
+    return render("testbench.vhd.j2", name=name, count=count, digits=digits, inputs=inputs, outputs=outputs,
+                  in_bits=iface.in_bits, out_bits=iface.out_bits, claim=iface.claim(), step=STEP, plan=plan,
+                  version=__version__, std=STD)
 
 
 def vhdl_files(d) -> dict[str, str]:
@@ -231,6 +235,5 @@ def vhdl_files(d) -> dict[str, str]:
     header = [line.replace("Verilog +", "numeric_std +") for line in header_lines(spec, d.metrics, d.net.meta)]
     return {
         f"{spec.name}.vhd": emit_entity(d.net, header),
-        f"{spec.name}_tb.vhd": emit_testbench(spec.name, spec.width, spec.carry_in, spec.carry_out,
-                                              d.testbench.count, d.plan),
+        f"{spec.name}_tb.vhd": emit_testbench(spec.name, d.net.iface, d.testbench.count, d.plan),
     }

@@ -9,11 +9,12 @@ from __future__ import annotations
 
 import re
 
+from .interface import ROLES, Interface, of_ports
 from .network import Network, Node, Port, PrefixGraph
 from ..base.keywords import RESERVED
 
 _IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
-_RESERVED = {"a", "b", "cin", "sum", "cout", "clk"} | RESERVED
+_RESERVED = set(ROLES) | RESERVED  # port names, so that no wire takes one
 
 
 class Builder:
@@ -145,8 +146,9 @@ class Builder:
         return len(self.nodes) - 1
 
     # -- result -----------------------------------------------------------------------------------------
-    def finish(self, prefix: PrefixGraph | None = None) -> Network:
-        """Drop unreachable cells, renumber, make names unique and legal, and freeze."""
+    def finish(self, prefix: PrefixGraph | None = None, interface: Interface | None = None) -> Network:
+        """Drop unreachable cells, renumber, make names unique and legal, and freeze. ``interface`` is the
+        spec's (schemes pass it); without one it is read off the port names (networks built by hand)."""
         live = [False] * len(self.nodes)
         for p in self.outputs:
             for b in p.bits:
@@ -179,7 +181,8 @@ class Builder:
             nodes.append(Node(n.op, tuple(remap[a] for a in n.args), name, n.role, n.param))
         inputs = tuple(Port(p.name, tuple(remap[b] for b in p.bits), p.scalar) for p in self.inputs)
         outputs = tuple(Port(p.name, tuple(remap[b] for b in p.bits), p.scalar) for p in self.outputs)
-        return Network(self.name, tuple(nodes), inputs, outputs, prefix, tuple(self.meta))
+        interface = interface if interface is not None else of_ports(inputs, outputs)
+        return Network(self.name, tuple(nodes), inputs, outputs, prefix, tuple(self.meta), interface)
 
 
 def _unique(name: str, used: set[str]) -> str:

@@ -11,6 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from .cells import CELLS
+from .interface import Interface
 
 
 @dataclass(frozen=True)
@@ -66,6 +67,7 @@ class Network:
     outputs: tuple[Port, ...]
     prefix: PrefixGraph | None = None
     meta: tuple[tuple[str, str], ...] = field(default=())  # scheme facts for headers and dumps
+    interface: Interface | None = None  # what the ports mean; the builder always sets it
 
     def port(self, name: str) -> Port | None:
         for p in self.inputs + self.outputs:
@@ -74,8 +76,11 @@ class Network:
         return None
 
     @property
-    def width(self) -> int:
-        return self.port("a").width
+    def iface(self) -> Interface:
+        """The interface record (``interface``), never absent on a built network."""
+        if self.interface is None:
+            raise ValueError(f"network {self.name} has no interface record")
+        return self.interface
 
     def uses(self) -> list[int]:
         """Fanout of every node: cell input pins it drives plus output-port bits it drives."""
@@ -92,6 +97,8 @@ class Network:
 def dump(net: Network) -> str:
     """Deterministic, readable text of the whole network; golden files compare against it."""
     lines = [f"network {net.name}"]
+    if net.interface is not None:
+        lines.append(f"interface {net.interface.describe()}")
     for k, v in net.meta:
         lines.append(f"meta {k} = {v}")
     for p in net.inputs:
@@ -121,6 +128,11 @@ def _ref(net: Network, i: int) -> str:
 
 def check_well_formed(net: Network) -> None:
     """Raise AssertionError if the network breaks an IR invariant (used by tests and after passes)."""
+    if net.interface is not None:  # every adder has one; a bare gate network made by hand (cell tests) not
+        net.interface.validate()
+        declared = [(p.name, p.width, p.scalar, p in net.inputs) for p in net.inputs + net.outputs]
+        wanted = [(p.name, p.width, p.scalar, p.direction == "in") for p in net.interface.pins]
+        assert declared == wanted, f"ports {declared} are not the interface's {wanted}"
     seen_names = set()
     for i, n in enumerate(net.nodes):
         assert n.op in CELLS, f"node {i}: unknown op {n.op}"

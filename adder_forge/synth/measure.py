@@ -1,96 +1,214 @@
 """`report`: estimates and synthesis figures for each spec, always beside Verilog's `+` at the same width.
 
-For every spec: the IR estimates (delay.py) and each requested synthesis flow (synth.py), and the same for
-the ``behavioral`` scheme (one `+`) with the same width and carry ports, so every report says how the
-generated adder compares with what the synthesis tool makes of `+`. The figures go into the spec's output
-folder as the ``measurements`` block of DIR/NAME/NAME.json; the folder is built first when it is missing or
-was built from a different spec.
+For every spec: the netlist and estimate figures (analysis/figures.py) and each requested synthesis flow
+(flows.py), and the same for the ``behavioral`` scheme (one `+`) with the same width and carry ports, so
+every report says how the generated adder compares with what the synthesis tool makes of `+`.
+
+Every figure is a measurement record (base/records.py). The records go into the spec's output folder as
+the ``measurements`` block of DIR/NAME/NAME.json (the folder is built first when it is missing or was
+built from a different spec); the printed table, ``report --csv`` and the comparison with `+` are views of
+the same records (``Measured``).
 """
 
 from __future__ import annotations
 
+import contextlib
 import json
+import os
 import tempfile
+from dataclasses import dataclass, field, replace
 from pathlib import Path
-from typing import Callable
+from typing import Callable, Iterable
 
-from ..emit.design import Design, design
+from ..analysis import figures as analysis_figures
 from ..analysis.delay import estimates
-from ..base.errors import UsageError, OutputConflict, SpecError, ToolError
-from ..emit.outputs import Folder, check_replaceable, fingerprint, read_manifest, sha256_text, update_files, write_folders
 from ..analysis.structure import LEFT_TO_SYNTHESIS
-from ..spec.registry import suggest
+from ..base.errors import OutputConflict, OutputError, ToolError
+from ..base.records import FIELDS, Figure, Record, csv_text, digest_of, from_dict, make_records, strip, values
+from ..emit.design import Design, design
+from ..emit.outputs import Folder, check_replaceable, fingerprint, read_manifest, sha256_text, update_files, write_folders
 from ..emit.summary import to_json
 from ..spec.loader import Spec, make_spec
-from .flows import FLOWS, require, synthesize
+from .flows import FLOWS, get_flow, require, synthesize, tool_version
 
 BASELINE = "behavioral"
-# Figures compared with the baseline: (label, flow, path into the flow's dict). Smaller is better for all.
-# Names say what is counted and after which tool: "yosys" is `synth -flatten -noabc` (Yosys's own passes
-# have already merged shared logic and removed dead cells), "abc" is after ABC's delay script, "lut6" and
-# "ice40" are mapped cells. None of them is the netlist as emitted (metrics.py's netlist_* figures).
-COMPARED = (
-    ("yosys_cells", "generic", ("structure", "cells")),
-    ("yosys_depth", "generic", ("structure", "depth")),
-    ("abc_cells", "generic", ("abc_delay", "cells")),
-    ("abc_depth", "generic", ("abc_delay", "depth")),
-    ("lut6_luts", "lut6", ("luts",)),
-    ("lut6_depth", "lut6", ("depth",)),
-    ("ice40_lut4", "ice40", ("lut4",)),
-    ("ice40_period_ns", "ice40", ("fmax_mhz",)),  # compared as a period, so that smaller is better here too
-)
+BLOCK = "measurements"  # the key of NAME.json that `report` owns
+ABOUT = ("records: one per measured figure (spec, digest of the resolved spec, figure, value, unit, source, "
+         "tool, tool_version, seed); baseline: the same for Verilog's + at this width and carry ports; "
+         "details: how the figures were measured (scripts, cell types, paths, errors); versus_plus: the "
+         "compared figures over the baseline's (below 1: smaller than +), computed from the records")
 
 
-def check_flows(flows: list[str]) -> list[str]:
-    out = []
-    for f in flows:
-        if f not in FLOWS:
-            raise UsageError(f"unknown synthesis flow '{f}'" + suggest(f, FLOWS), "report", "--synth")
-        if f not in out:
-            out.append(f)
-    return out
+def spec_digest(spec: Spec) -> str:
+    """The digest records carry: the resolved spec without its name (the name is the record's own field),
+    so two specs that differ only in name measure the same adder."""
+    return digest_of({k: v for k, v in spec.to_dict().items() if k != "name"})
 
 
-def _label(spec: Spec) -> str:
-    net = spec.opt("prefix")
-    return f"{spec.scheme} ({net})" if net else spec.scheme
+def sources(flows: Iterable[str]) -> list[tuple[str, tuple[Figure, ...]]]:
+    """(source name, declared figures) in table order: the analyses, then the flows."""
+    return [*analysis_figures.SOURCES.items(), *((f, get_flow(f).figures) for f in flows)]
 
 
-def _dig(d: dict | None, path: tuple[str, ...]):
-    for k in path:
-        if not isinstance(d, dict) or k not in d:
-            return None
-        d = d[k]
-    return d
+def declared(name: str, flows: Iterable[str] = ()) -> Figure:
+    """The declaration of a figure by name, among the analyses' and the given (default: all) flows'."""
+    for _src, figs in sources(list(flows) or list(FLOWS)):
+        for f in figs:
+            if f.name == name:
+                return f
+    raise KeyError(name)
 
 
-def compare(ours: dict, plus: dict) -> dict:
-    """{figure: {"design", "plus", "ratio"}}: the design's figure over the baseline's (below 1: better)."""
-    out = {}
-    for label, fl, path in COMPARED:
-        a, b = _dig(ours.get(fl), path), _dig(plus.get(fl), path)
-        if not isinstance(a, (int, float)) or not isinstance(b, (int, float)) or not a or not b:
-            continue
-        if label == "ice40_period_ns":
-            a, b = round(1000.0 / a, 3), round(1000.0 / b, 3)
-        out[label] = {"design": a, "plus": b, "ratio": round(a / b, 3)}
-    return out
+@dataclass(frozen=True)
+class Figures:
+    """The records of one design, and what each source said about how it measured them (``details``:
+    scripts, cell types, critical paths; ``{"error": ...}`` for a flow that failed on this design)."""
+
+    spec: str
+    digest: str
+    records: tuple[Record, ...]
+    details: dict = field(default_factory=dict, compare=False)
+
+    def values(self) -> dict[str, int | float]:
+        return values(self.records, self.digest)
+
+    def errors(self) -> dict[str, str]:
+        return {src: d["error"] for src, d in self.details.items() if isinstance(d, dict) and "error" in d}
 
 
-def _run_flows(name: str, verilog: str, spec: Spec, flows: list[str], say: Callable[[str], None],
-               what: str) -> dict:
-    res = {}
+def measure_design(d: Design, flows: Iterable[str], say: Callable[[str], None] | None = None,
+                   what: str | None = None) -> Figures:
+    """Every figure of one design: netlist, estimates, and each flow (a flow that fails on this design is
+    kept as an error in ``details``, the others still run). Writes nothing; the work folders are temporary."""
+    say = say or (lambda _m: None)
+    spec, digest = d.spec, spec_digest(d.spec)
+    tag = what or spec.name
+    recs: list[Record] = []
+    details: dict = {}
+    say(f"{tag}: estimates")
+    raw_of = {"netlist": d.metrics, "estimates": estimates(d.net)}
+    for src, figs in analysis_figures.SOURCES.items():
+        raw = raw_of[src]
+        recs += make_records(spec.name, digest, src, figs, raw, analysis_figures.TOOL, tool_version)
+        if src == "estimates":
+            details[src] = strip(raw, figs)
     for fl in flows:
-        say(f"{what}: {fl}")
+        flow = get_flow(fl)
+        say(f"{tag}: {fl}")
         try:
             with tempfile.TemporaryDirectory(prefix=f"adder_forge_{fl}_") as tmp:
-                res[fl] = synthesize(fl, name, verilog, width=spec.width, carry_in=spec.carry_in,
-                                     carry_out=spec.carry_out, workdir=Path(tmp))
+                raw = synthesize(fl, spec.name, d.verilog, width=spec.width, carry_in=spec.carry_in,
+                                 carry_out=spec.carry_out, workdir=Path(tmp))
         except ToolError as exc:
             # One design that a flow cannot handle (too big for the FPGA, a tool crash) must not lose the
             # figures of the others; the error goes into the report and the table.
-            res[fl] = {"error": exc.message + (f": {exc.hint.splitlines()[-1]}" if exc.hint else "")}
-    return res
+            details[fl] = {"error": exc.message + (f": {exc.hint.splitlines()[-1]}" if exc.hint else "")}
+            continue
+        seed = raw.get("seed") if isinstance(raw.get("seed"), int) else None
+        recs += make_records(spec.name, digest, fl, flow.figures, raw, flow.main_tool, tool_version, seed)
+        details[fl] = strip(raw, flow.figures)
+    return Figures(spec.name, digest, tuple(recs), details)
+
+
+def baseline_spec(spec: Spec) -> Spec:
+    """Verilog's `+` with the spec's width and carry ports. Its name depends on nothing but these, so the
+    baseline of a spec is the same whatever other specs a command measures and in whatever order; the
+    reserved prefix keeps it apart from every spec's module."""
+    name = f"adder_forge_plus{spec.width}" + ("" if spec.carry_in else "_nocin") + ("" if spec.carry_out else "_nocout")
+    return replace(make_spec("plus", spec.width, BASELINE, spec.carry_in, spec.carry_out, source="<baseline>"),
+                   name=name)
+
+
+@dataclass(frozen=True)
+class Measured:
+    """One spec's figures beside those of `+` (``plus``), for the flows asked; what every view reads."""
+
+    spec: Spec
+    flows: tuple[str, ...]
+    figures: Figures
+    plus: Figures
+    json: Path | None = None
+
+    @property
+    def label(self) -> str:
+        net = self.spec.opt("prefix")
+        return f"{self.spec.scheme} ({net})" if net else self.spec.scheme
+
+    def versus_plus(self) -> dict:
+        return compare(self.figures.values(), self.plus.values(), self.flows)
+
+
+def compare(ours: dict, plus: dict, flows: Iterable[str]) -> dict:
+    """{figure: {"design", "plus", "ratio"}} for the compared figures: the design's over the baseline's
+    (below 1: better); a figure missing or zero on either side is left out."""
+    out = {}
+    for _src, figs in sources(flows):
+        for f in figs:
+            a, b = ours.get(f.name), plus.get(f.name)
+            if f.compared and a and b:
+                out[f.name] = {"design": a, "plus": b, "ratio": round(a / b, 3)}
+    return out
+
+
+def measure_specs(specs: list[Spec], flows: list[str], out_dir: Path,
+                  progress: Callable[[str], None] | None = None, force: bool = False,
+                  csv: Path | None = None) -> list[Measured]:
+    """Figures of every spec and of `+` at its width, written into NAME.json (and all records into the
+    CSV file ``csv`` when given)."""
+    say = progress or (lambda _m: None)
+    flows = check_flows(list(flows))
+    require(flows)  # a missing tool fails here, before anything runs
+    if csv is not None:
+        check_csv(Path(csv), force)
+    # Every folder is (re)built and its NAME.json checked before the first synthesis run, so that a file in
+    # the way stops the command before minutes of work, not after.
+    ready = []
+    for spec in specs:
+        d = design(spec)  # the same files `build` writes, in case the folder has to be (re)built
+        ready.append((d, _folder(d, out_dir, say, force)))
+    baselines: dict[str, Figures] = {}
+    results = []
+    for d, path in ready:
+        spec = d.spec
+        mine = measure_design(d, flows, say)
+        base = baseline_spec(spec)
+        if base.name not in baselines:
+            baselines[base.name] = measure_design(design(base, tb_random=0), flows, say, f"+ at {spec.width} bits")
+        m = Measured(spec, tuple(flows), mine, baselines[base.name], path)
+        _write(path, m, force)
+        results.append(m)
+    if csv is not None:
+        write_csv(Path(csv), results, force)
+    return results
+
+
+def check_flows(flows: list[str]) -> list[str]:
+    for f in flows:
+        get_flow(f)
+    return list(dict.fromkeys(flows))
+
+
+# -- NAME.json -------------------------------------------------------------------------------------------------
+def block(m: Measured) -> dict:
+    """The ``measurements`` block of NAME.json."""
+    return {
+        "about": ABOUT,
+        "flows": list(m.flows),
+        "records": [r.to_dict() for r in m.figures.records],
+        "details": m.figures.details,
+        "baseline": {"spec": m.plus.spec, "digest": m.plus.digest, "scheme": BASELINE,
+                     "records": [r.to_dict() for r in m.plus.records], "details": m.plus.details},
+        "versus_plus": m.versus_plus(),
+    }
+
+
+def read_block(data: dict) -> tuple[tuple[Record, ...], tuple[Record, ...]]:
+    """(design records, baseline records) from the ``measurements`` block of a NAME.json; ValueError when
+    the block is not one `report` wrote."""
+    b = data.get(BLOCK) if isinstance(data, dict) else None
+    if not isinstance(b, dict) or not isinstance(b.get("records"), list) or not isinstance(b.get("baseline"), dict):
+        raise ValueError("no measurements block")
+    return tuple(map(from_dict, b["records"])), tuple(map(from_dict, b["baseline"].get("records", [])))
 
 
 def design_key(d: Design) -> str:
@@ -106,7 +224,7 @@ def carry_figures(fname: str, old: Path, new: str, same: bool) -> tuple[str, str
     if not fname.endswith(".json"):
         return new, None
     try:
-        figures = json.loads(old.read_text(encoding="utf-8")).get("measurements")
+        figures = json.loads(old.read_text(encoding="utf-8")).get(BLOCK)
         data = json.loads(new)
     except (OSError, ValueError, AttributeError):
         return new, None
@@ -114,7 +232,7 @@ def carry_figures(fname: str, old: Path, new: str, same: bool) -> tuple[str, str
         return new, None
     if not same:
         return new, "dropped the figures of the last report (the spec or the generator changed)"
-    data["measurements"] = figures
+    data[BLOCK] = figures
     return to_json(data), "kept the figures of the last report"
 
 
@@ -138,114 +256,104 @@ def _folder(d: Design, out_dir: Path, say: Callable[[str], None], force: bool = 
     return path
 
 
-def measure_specs(specs: list[Spec], flows: list[str], out_dir: Path,
-                  progress: Callable[[str], None] | None = None, force: bool = False) -> list[dict]:
-    """Estimates and synthesis figures for every spec and for `+` at its width; written into NAME.json."""
-    say = progress or (lambda _m: None)
-    flows = check_flows(list(flows))
-    require(flows)  # a missing tool fails here, before anything runs
-    baselines: dict[tuple[int, bool, bool], dict] = {}
-    results = []
-    # Every folder is (re)built and its NAME.json checked before the first synthesis run, so that a file in
-    # the way stops the command before minutes of work, not after.
-    ready = []
-    for spec in specs:
-        d = design(spec)  # the same files `build` writes, in case the folder has to be (re)built
-        ready.append((spec, d, _folder(d, out_dir, say, force)))
-    for spec, d, path in ready:
-        say(f"{spec.name}: estimates")
-        entry = {"name": spec.name, "width": spec.width, "scheme": spec.scheme, "label": _label(spec),
-                 "netlist_gate_equiv": d.metrics["netlist_gate_equiv"], "estimates": estimates(d.net), "synthesis": _run_flows(spec.name, d.verilog, spec, flows, say, spec.name)}
-        key = (spec.width, spec.carry_in, spec.carry_out)
-        if key not in baselines:
-            if spec.scheme == BASELINE:
-                baselines[key] = {"estimates": entry["estimates"], "synthesis": entry["synthesis"]}
-            else:
-                base = make_spec(f"{spec.name}_plus", spec.width, BASELINE, spec.carry_in, spec.carry_out)
-                bd = design(base, tb_random=0)
-                baselines[key] = {"estimates": estimates(bd.net),
-                                  "synthesis": _run_flows(base.name, bd.verilog, base, flows, say,
-                                                          f"+ at {spec.width} bits")}
-        plus = baselines[key]
-        entry["baseline"] = {"scheme": BASELINE, **plus}
-        entry["versus_plus"] = compare(entry["synthesis"], plus["synthesis"])
-        _write(path, entry, force)
-        entry["json"] = str(path)
-        results.append(entry)
-    return results
-
-
-def _write(path: Path, entry: dict, force: bool = False) -> None:
-    """Add the figures to NAME.json through the folder's manifest, so that the next build knows the file as
-    its own (and carries the figures over while the design is unchanged)."""
+def _write(path: Path, m: Measured, force: bool = False) -> None:
+    """Set the ``measurements`` block of NAME.json (the rest is `build`'s and stays as it was) through the
+    folder's manifest, so that the next build knows the file as its own and carries the block over while
+    the design is unchanged."""
     try:
         data = json.loads(path.read_text(encoding="utf-8"))
     except (OSError, ValueError):
         data = None
-    if not isinstance(data, dict):
+    if not isinstance(data, dict) or data.get("tool") != "adder_forge" or data.get("name") != m.spec.name:
         raise OutputConflict(path, "is not the JSON report adder_forge wrote; rebuild it with `build`")
-    data["measurements"] = {k: entry[k] for k in ("estimates", "synthesis", "baseline", "versus_plus")}
+    data[BLOCK] = block(m)
     update_files(path.parent.parent, path.parent.name, {path.name: to_json(data)}, force=force)
 
 
+# -- CSV -------------------------------------------------------------------------------------------------------
+CSV_HEADER = ",".join(FIELDS)
+
+
+def check_csv(path: Path, force: bool = False) -> None:
+    """The CSV file may be new, or one `report` wrote (its first line is our header); anything else is the
+    user's and is replaced only with ``force``. Checked before any work."""
+    if path.is_dir():
+        raise OutputConflict(path, "is a folder, not a CSV file")
+    if not path.exists() or force:
+        return
+    try:
+        with open(path, encoding="utf-8", errors="replace") as fh:
+            first = fh.readline().rstrip("\r\n")
+    except OSError as exc:
+        raise OutputConflict(path, f"cannot be read ({exc.strerror or exc})") from None
+    if first != CSV_HEADER:
+        raise OutputConflict(path, "exists and is not a CSV file `report` wrote (use --force to replace it)")
+
+
+def all_records(results: Iterable[Measured]) -> list[Record]:
+    """The records of every spec, then of each `+` baseline once."""
+    out, seen = [], set()
+    for m in results:
+        out += m.figures.records
+    for m in results:
+        if m.plus.spec not in seen:
+            seen.add(m.plus.spec)
+            out += m.plus.records
+    return out
+
+
+def write_csv(path: Path, results: list[Measured], force: bool = False) -> None:
+    """All records into ``path``, written whole or not at all (a temporary file renamed into place)."""
+    check_csv(path, force)
+    text = csv_text(all_records(results))
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", dir=path.parent)
+        try:
+            with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
+                fh.write(text)
+            os.replace(tmp, path)
+        except BaseException:
+            with contextlib.suppress(OSError):
+                os.unlink(tmp)
+            raise
+    except OSError as exc:
+        raise OutputError(f"cannot write {path}: {exc.strerror or exc}") from None
+
+
 # -- the printed table ------------------------------------------------------------------------------------------
-def _cell(v) -> str:
-    if v is None:
-        return "-"
-    if isinstance(v, float):
-        return f"{v:.1f}"
-    return str(v)
-
-
-def _row(name: str, label: str, width: int, ge, est: dict, syn: dict) -> tuple[list[str], list[str]]:
-    errors = []
-    ug = _cell(est.get("unit_gate_delay"))
-    if est.get("unit_gate_delay_skip_aware") is not None:
-        ug = f"{est['unit_gate_delay_skip_aware']}*"
-    row = [name, label, str(width), _cell(ge), ug, _cell(est.get("unit_gate_area")),
-           _cell(est.get("le_tau")), _cell(est.get("le_fo4"))]
-    for fl in syn:
-        r = syn[fl]
-        if "error" in r:
-            n = {"generic": 4, "lut6": 2, "ice40": 3}[fl]
-            row += ["error"] + [""] * (n - 1)
-            errors.append(f"{name} {fl}: {r['error']}")
+def _row(name: str, label: str, width: int, f: Figures, cols: list[tuple[str, list[Figure]]]
+         ) -> tuple[list[str], list[str]]:
+    vals, errs = f.values(), f.errors()
+    row, errors = [name, label, str(width)], []
+    for src, figs in cols:
+        if src in errs:
+            row += ["error"] + [""] * (len(figs) - 1)
+            errors.append(f"{f.spec} {src}: {errs[src]}")
             continue
-        if fl == "generic":
-            row += [_cell(_dig(r, ("structure", "cells"))), _cell(_dig(r, ("structure", "depth"))),
-                    _cell(_dig(r, ("abc_delay", "cells"))), _cell(_dig(r, ("abc_delay", "depth")))]
-        elif fl == "lut6":
-            row += [_cell(r.get("luts")), _cell(r.get("depth"))]
-        elif fl == "ice40":
-            row += [_cell(r.get("lut4")), _cell(r.get("carry")), f"{r['fmax_mhz']:.2f}"]
+        for fig in figs:
+            if fig.shown_instead and vals.get(fig.shown_instead) is not None:
+                row.append(declared(fig.shown_instead).cell(vals[fig.shown_instead]) + "*")
+            else:
+                row.append(fig.cell(vals.get(fig.name)))
     return row, errors
 
 
-HEADERS = {
-    "generic": ["yosys cells", "yosys depth", "abc cells", "abc depth"],
-    "lut6": ["LUT6", "LUT6 depth"],
-    "ice40": ["iCE40 LUT4", "carry", "Fmax MHz"],
-}
-
-
-def format_table(results: list[dict]) -> str:
-    """The printed table: one row per spec and one for `+` at the same width below it."""
+def format_table(results: list[Measured]) -> str:
+    """The printed table: one row per spec and one for `+` at the same width below it; the columns are
+    the figures the analyses and the flows declare with a label."""
     if not results:
         return "(no specs)"
-    flows = list(results[0]["synthesis"])
-    head = ["name", "scheme", "width", "netlist GE", "unit delay", "unit area", "LE tau", "LE FO4"]
-    for fl in flows:
-        head += HEADERS[fl]
+    flows = results[0].flows
+    cols = [(src, [f for f in figs if f.label]) for src, figs in sources(flows)]
+    cols = [(src, figs) for src, figs in cols if figs]
+    head = ["name", "scheme", "width"] + [f.label for _src, figs in cols for f in figs]
     rows, errors = [], []
-    for r in results:
-        row, err = _row(r["name"], r["label"], r["width"], r.get("netlist_gate_equiv"), r["estimates"],
-                        r["synthesis"])
-        rows.append(row)
-        errors += err
-        b = r["baseline"]
-        row, err = _row("  +", "behavioral", r["width"], None, b["estimates"], b["synthesis"])
-        rows.append(row)
-        errors += err
+    for m in results:
+        for row, err in (_row(m.spec.name, m.label, m.spec.width, m.figures, cols),
+                         _row("  +", BASELINE, m.spec.width, m.plus, cols)):
+            rows.append(row)
+            errors += err
     widths = [max(len(h), *(len(x[k]) for x in rows)) for k, h in enumerate(head)]
     lines = ["  ".join(h.ljust(w) if k < 2 else h.rjust(w) for k, (h, w) in enumerate(zip(head, widths)))]
     lines.append("  ".join("-" * w for w in widths))
@@ -254,17 +362,10 @@ def format_table(results: list[dict]) -> str:
     notes = ["netlist GE: the module as emitted, in 2-input gate equivalents (build's figure); unit delay/area: "
              "unit-gate model; LE: logical effort, each path sized on its own (estimates, not sign-off). "
              f"'-': {LEFT_TO_SYNTHESIS}, the `+` baseline has no netlist of ours."]
-    if any(r["estimates"].get("unit_gate_delay_skip_aware") is not None for r in results):
+    if any("unit_gate_delay_skip_aware" in m.figures.values() for m in results):
         notes.append("*: carry-skip unit delay, skip-aware (its false ripple paths not counted); LE figures count "
                      "them (topological).")
-    if "generic" in flows:
-        notes.append("yosys cells/depth: Yosys synth -flatten -noabc, cells after its own optimisation (shared "
-                     "logic merged, dead logic removed) and ltp -noff depth; abc: then abc -g with a delay script.")
-    if "lut6" in flows:
-        notes.append("LUT6: Yosys synth -flatten -lut 6, mapped LUTs and LUT levels.")
-    if "ice40" in flows:
-        notes.append("iCE40 LUT4/carry/Fmax: mapped cells of the adder alone; Fmax: UP5K sg48, adder between "
-                     "registers, nextpnr seed 1.")
+    notes += [get_flow(fl).note for fl in flows if get_flow(fl).note]
     seen = set()
     for e in errors:
         if e not in seen:
