@@ -203,9 +203,10 @@ def test_objectives_differ_where_they_should():
 def test_lut6_objective_scores_by_the_flow(tmp_path, capsys):
     """--objective lut6 on an 8-bit adder: every start mapped by Yosys; the file names the LUT figures."""
     out = tmp_path / "l.net"
-    assert main(["search", "--width", "8", "--max-levels", "4", "--objective", "lut6", "--out", str(out)]) == 0
+    assert main(["search", "--width", "8", "--max-levels", "4", "--objective", "lut6", "--rounds", "3",
+                 "--out", str(out)]) == 0
     line = capsys.readouterr().out
-    assert "LUT6 flow" in line and "Yosys proof pass" in line
+    assert "LUT6 flow" in line and "Yosys proof pass" in line and "after 3 rounds" in line
     text = out.read_text()
-    assert "# LUT6 flow: " in text and " LUT levels" in text
+    assert "# LUT6 flow: " in text and " LUT levels" in text and "--objective lut6 --seed 1 --rounds 3" in text
     assert_prefix(network_file.read(out), 8)

@@ -14,7 +14,8 @@ The search (docs/search.md):
 
 Objectives: ``cells`` (prefix cells), ``area-delay`` (cells times depth), ``lut6`` (the LUT6 flow of
 ``synth.flows``: fewest LUT levels, then fewest LUTs; each candidate costs a Yosys run, so only the
-starts are scored, no annealing).
+starts are scored, fewest cells first, as many as ``--seconds`` allows or exactly ``--rounds``; no
+annealing).
 """
 
 from __future__ import annotations
@@ -95,10 +96,13 @@ class Found:
             f"Snir gap {f['prefix_snir_gap']} (cells + depth - (2n - 2), Snir 1986)"
             + (f"; {f['prefix_min_gap']} over Sergeev 2013's exact minimum {sergeev_minimum(r.inputs)} at depth "
                f"{f['prefix_depth']}" if f["prefix_min_gap"] is not None else ""),
-            f"objective {r.objective}: {_fmt(self.score)} (best start {self.start}: {_fmt(self.start_score)})",
         ]
         if self.lut6:
+            lines.append(f"objective lut6, the best of {self.rounds} starts mapped: {self.start}")
             lines.append(f"LUT6 flow: {self.lut6['luts']} LUTs, {self.lut6['depth']} LUT levels")
+        else:
+            lines.append(f"objective {r.objective}: {_fmt(self.score)} (best start {self.start}: "
+                         f"{_fmt(self.start_score)})")
         lines += [f"{c}: {'pass' if ok else 'FAIL'} {d}" for c, ok, d in self.checks]
         lines.append("the command above writes this file again, byte for byte (--seconds only decided --rounds)")
         return write(self.graph, self.name, tuple(lines))
@@ -215,12 +219,21 @@ def search(r: Request, progress: Progress = NULL) -> Found:
                            f"{r.max_fanout}, tracks {r.max_tracks}); try more levels or a larger fanout")
     candidates = []
     lut = {}
+    scored = 0
     if r.objective == "lut6":
-        with progress.task("LUT6 flow on the starts", total=len(starts), unit="networks") as task:
-            for name, g in starts:
+        # shallowest first (LUT levels follow prefix depth), then fewest cells; as many as --seconds allows
+        # (at least one), or exactly --rounds of them
+        order = sorted(starts, key=lambda t: (prefix_figures(t[1])["prefix_depth"], len(t[1].cells), t[0]))
+        limit = len(order) if r.rounds is None else max(1, min(r.rounds, len(order)))
+        with progress.task("LUT6 flow on the starts", total=limit, unit="networks") as task:
+            for name, g in order[:limit]:
+                if scored and r.rounds is None and time.monotonic() > end:
+                    progress.note(f"search: out of time after {scored} of {len(order)} starts in the LUT6 flow")
+                    break
                 fig = lut6_figures(r, g)
                 lut[name] = fig
                 candidates.append((name, g, (fig["depth"], fig["luts"])))
+                scored += 1
                 task.advance()
     else:
         candidates = [(name, g, _score(r.objective, g)) for name, g in starts]
@@ -247,9 +260,8 @@ def search(r: Request, progress: Progress = NULL) -> Found:
     found = Found(r, best, best_score, figures, start_name, start_score, done,
                   [(name, len(g.cells), prefix_figures(g)["prefix_levels"], score) for name, g, score in candidates])
     if r.objective == "lut6":
+        found.rounds = scored  # starts scored: what --rounds reproduces for this objective
         found.lut6 = lut[start_name]
-        found.score = best_score = start_score[0] * 100000 + start_score[1]
-        found.start_score = found.score
     if r.verify:
         found.checks = verify_network(r, best, progress)
     return found
