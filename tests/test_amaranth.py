@@ -56,6 +56,8 @@ CASES = [
     ("carry_skip_auto", {"scheme": "carry-skip", "block": "auto"}, True, False),
     ("conditional_sum", {"scheme": "conditional-sum", "block": 1}, True, True),
     ("conditional_sum_b3", {"scheme": "conditional-sum", "block": 3}, False, True),
+    ("chain_prefix_b3", {"scheme": "chain-prefix", "block": 3}, True, True),
+    ("chain_select_chain_b2", {"scheme": "chain-select", "block": 2, "join": "chain"}, True, False),
 ]
 IDS = [c[0] for c in CASES]
 # The flat lookahead has O(n^3) gates (48,161 nodes at 64 bits): Amaranth's simulator takes about 20 s to

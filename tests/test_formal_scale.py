@@ -21,6 +21,8 @@ CASES = {
     "carry-skip": {},
     "conditional-sum": {},
     "block-lookahead": {},
+    "chain-prefix": {},
+    "chain-select": {"join": "chain"},
 }
 
 

@@ -43,6 +43,8 @@ DESIGNS = [
     ("mu_csel6", 6, "carry-select", {"block": 3}),
     ("mu_cskip7", 7, "carry-skip", {"block": 3}),
     ("mu_csum6", 6, "conditional-sum", {}),
+    ("mu_chp7", 7, "chain-prefix", {"block": 2}),
+    ("mu_chs7", 7, "chain-select", {"block": 2, "join": "chain"}),
 ]
 PER_OPERATOR = 5  # mutants of each operator a design, evenly spread over its module
 MIN_MUTANTS = 300

@@ -37,7 +37,8 @@ def _configs() -> list[dict]:
              ("lal", "lookahead", {"ling": True}), ("bla", "block-lookahead", {"block": 4}),
              ("blal", "block-lookahead", {"block": 3, "ling": True, "group": 2}),
              ("sel", "carry-select", {"block": "auto"}), ("skip", "carry-skip", {"block": "auto"}),
-             ("csum", "conditional-sum", {"block": 1}), ("csum4", "conditional-sum", {"block": 4})]
+             ("csum", "conditional-sum", {"block": 1}), ("csum4", "conditional-sum", {"block": 4}),
+             ("chp", "chain-prefix", {"block": 3}), ("chs", "chain-select", {"block": 2, "join": "chain"})]
     rows += [(f"px_{SHORT[n]}", "prefix", {"prefix": n}) for n in sorted(NETWORKS)]
     rows += [("px_ks_b4", "prefix", {"prefix": "kogge-stone", "block": 4}),
              ("px_sk_ling", "prefix", {"prefix": "sklansky", "ling": True})]

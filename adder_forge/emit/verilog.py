@@ -64,6 +64,16 @@ def _read_carries(net: Network, uses: list[int]) -> set[int]:
     return out
 
 
+def _unread_bits(net: Network, uses: list[int]) -> set[int]:
+    """ADD cells with a sum bit nothing reads (chain-select's second chain: its lowest sum is not needed)."""
+    read: dict[int, set[int]] = {}
+    for j, n in enumerate(net.nodes):
+        if n.op == "PICK" and uses[j]:
+            read.setdefault(n.args[0], set()).add(n.param)
+    return {i for i, n in enumerate(net.nodes)
+            if n.op == "ADD" and not set(range(add_width(len(n.args)))) <= read.get(i, set())}
+
+
 def _add_expr(net: Network, i: int, bits: int) -> str:
     n = net.nodes[i]
     k = add_width(len(n.args))
@@ -93,11 +103,14 @@ def emit_module(net: Network, header: list[str]) -> str:
     from .templating import render
 
     wires, vectors = [], []
-    carried = _read_carries(net, net.uses())
+    uses = net.uses()
+    carried = _read_carries(net, uses)
+    unread = _unread_bits(net, uses)
     for i, n in enumerate(net.nodes):
         if n.op == "ADD":
             bits = add_width(len(n.args)) + (i in carried)
-            vectors.append({"name": n.name, "msb": bits - 1, "expr": _add_expr(net, i, bits)})
+            vectors.append({"name": n.name, "msb": bits - 1, "expr": _add_expr(net, i, bits),
+                            "unread": i in unread})
         elif n.op not in ("INPUT", "CONST", "PICK"):
             wires.append({"name": n.name, "expr": expression(net, i)})
     outputs = [{"name": p.name, "expr": concat(net, list(reversed(p.bits)))} for p in net.outputs]

@@ -4,7 +4,7 @@ adder_forge is imported)."""
 
 from ..spec.registry import SCHEMES
 from . import (behavioral, block_lookahead, carry_select, carry_skip, conditional_sum,  # noqa: F401
-               lookahead, prefix, ripple)
+               lookahead, prefix, ripple, chain_prefix, chain_select)
 
 
 def elaborate(spec):

@@ -1,0 +1,67 @@
+"""chain-prefix: carry-chain blocks joined by a parallel-prefix network over the blocks' (G, T).
+
+Every block but the first is summed twice by carry chains (chain_blocks.py); their carry outs are the
+block generate and transmit, the prefix network chosen with ``prefix:`` (any network of
+prefix_networks.py) turns them into the carry into every block, and each block's sums are selected by
+that carry. Block 0's chain starts from the adder's carry-in, so its carry out is prefix column 0
+(a generate with no propagate, like the carry-in column of the prefix scheme). Hybrids of carry chains
+and select or lookahead logic are published for FPGAs (Preußer, Zabel and Spallek 2011; de Dinechin,
+Nguyen and Pasca 2010; from memory, as cited in issue 14); this construction is ours. The networks with
+a parameter (harris, knowles) are left out: their parameter depends on the block count, which
+``block: auto`` only knows after sizing.
+"""
+
+from __future__ import annotations
+
+from . import chain_blocks as cb
+from .prefix_networks import NETWORKS, build, final_refs, prune
+from ..spec.registry import choice_option, scheme
+from .blocksizes import check_block, text
+from .common import finish
+
+PREFIX = choice_option("prefix", sorted(k for k, v in NETWORKS.items() if v.param is None), "sklansky",
+                       "the prefix network over the blocks")
+
+
+def levels(name: str, m: int) -> int:
+    """LUT levels of network ``name`` over ``m`` block columns (its deepest cell)."""
+    g = build(name, m)
+    return max((c.level for c in g.cells), default=0)
+
+
+def auto(spec, width: int) -> tuple[int, ...]:
+    fam = cb.FAMILIES[spec.opt("target")]
+    name = spec.opt("prefix")
+    return cb.best_uniform(width, lambda sizes: cb.prefix_delay(fam, sizes, levels(name, len(sizes))))
+
+
+@scheme("chain-prefix", options=(cb.block_key("chain-prefix"), PREFIX, cb.TARGET), check=check_block,
+        doc="FPGA hybrid: carry-chain blocks for carry-in 0 and 1, a prefix network over the blocks' "
+            "generate/transmit, a multiplexer per bit")
+def chain_prefix(spec):
+    f, sums, c1, chains = cb.lay_out(spec, auto)
+    if not chains:
+        return finish(f, sums, c1)
+    b = f.b
+    m = len(chains) + 1
+    outs = list(range(m - 1)) + ([m - 1] if spec.carry_out else [])
+    graph = prune(build(spec.opt("prefix"), m), outs, f"{spec.opt('prefix')} over {m} blocks")
+    gen = [c1] + [ch.g for ch in chains]
+    prop = [None] + [ch.t for ch in chains]
+    G: list[int] = []
+    P: list[int | None] = []
+
+    def val(r: int):
+        return (gen[-1 - r], prop[-1 - r]) if r < 0 else (G[r], P[r])
+
+    for c in graph.cells:
+        (gh, ph), (gl, pl) = val(c.hi), val(c.lo)
+        name = f"B{c.col}_{c.low}"
+        G.append(b.AO21(ph, gl, gh, "G" + name, "prefix"))
+        P.append(None if c.gray else b.AND(ph, pl, "T" + name, "prefix"))
+    last = final_refs(graph)
+    for j, ch in enumerate(chains, start=1):
+        sums += cb.select_sums(f, val(last[j - 1])[0], ch)
+    cout = val(last[m - 1])[0] if spec.carry_out else b.const(0)
+    b.meta.append(("block_network", graph.style))
+    return finish(f, sums, cout)
