@@ -48,6 +48,7 @@ class Option:
     parse: Callable[[Any, Callable[[str], Exception]], Any]
     default: Any
     doc: str
+    choices: tuple = ()  # the values of a key that names one of a fixed set (a sweep can take each in turn)
 
 
 @dataclass(frozen=True)
@@ -117,7 +118,7 @@ def choice_option(key: str, choices, default, doc: str) -> Option:
             fail(f"unknown {key} '{shown(v)}'" + suggest(v, choices))
         return v
 
-    return Option(key, parse, default, doc)
+    return Option(key, parse, default, doc, choices)
 
 
 def bool_option(key: str, default: bool, doc: str) -> Option:
