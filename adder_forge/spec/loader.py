@@ -10,10 +10,9 @@ from typing import Any
 import yaml
 
 from ..base.errors import SpecError
-from ..base.keywords import BUILTIN_NAMES, RESERVED
+from ..base.keywords import BUILTIN_NAMES, IDENT, RESERVED
 from .registry import MAX_WIDTH, Option, bool_option, schemes, shown, suggest, type_name, yaml11_hint
 
-_IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
 
 # Names the tool derives from a spec's name or uses for its own modules. A spec name may not take one of
 # them, so that no module or file the tool writes can clash with a user's adder (README, "Names").
@@ -59,9 +58,6 @@ class Spec:
     def error(self, key: str, message: str) -> SpecError:
         line, col = self.where(key)
         return SpecError(message, self.source, line, col, key)
-
-    def given(self, key: str) -> bool:
-        return any(k == key for k, _, _ in self.positions)
 
     def to_dict(self) -> dict[str, Any]:
         d: dict[str, Any] = {"name": self.name, "width": self.width, "scheme": self.scheme,
@@ -283,7 +279,7 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
     name = data["name"]
     if not isinstance(name, str):
         fail_at("name", f"'name' must be a Verilog identifier, got {type_name(name)}")
-    if not _IDENT.match(name):
+    if not IDENT.match(name):
         fail_at("name", f"'name' must be a legal Verilog identifier (letters, digits, _; not starting with a digit), got '{shown(name)}'")
     if name in RESERVED:
         fail_at("name", f"'name' '{name}' is a Verilog/SystemVerilog keyword")
@@ -326,8 +322,8 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
 
     positions = tuple((k, *pos[k]) for k in data if k in pos)
     spec = Spec(name, width, scheme_name, flags["carry_in"], flags["carry_out"], tuple(options), source, positions)
-    if sch.check is not None:
-        sch.check(spec)
+    if sch.validate is not None:
+        sch.validate(spec)
     return spec
 
 
