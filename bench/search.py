@@ -22,7 +22,7 @@ import time
 
 from common import ROOT, save  # noqa: F401 (puts the project on sys.path)
 
-from adder_forge.analysis.prefix_eval import check as prefix_check, depth, stimulus  # noqa: E402
+from adder_forge.analysis.prefix_eval import check_graph as prefix_check, longest_chain as depth, stimulus  # noqa: E402
 from adder_forge.analysis.prefix_figures import fanout, prefix_figures, sergeev_minimum, tracks  # noqa: E402
 from adder_forge.schemes.prefix_networks import build, validate  # noqa: E402
 from adder_forge.search.local import Bounds  # noqa: E402

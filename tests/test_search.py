@@ -13,7 +13,7 @@ import random
 
 import pytest
 
-from adder_forge.analysis.prefix_eval import check as prefix_check, depth, stimulus
+from adder_forge.analysis.prefix_eval import check_graph as prefix_check, longest_chain as depth, stimulus
 from adder_forge.analysis.prefix_figures import fanout, prefix_figures, sergeev_minimum, tracks
 from adder_forge.cli import main
 from adder_forge.schemes import elaborate, network_file

@@ -29,7 +29,7 @@ from ..base.progress import NULL, Progress
 from ..ir.network import PrefixGraph
 from ..schemes.network_file import write
 from ..schemes.prefix import adder_with_network
-from ..schemes.prefix_networks import NETWORKS, build, from_rows, levels_of, validate
+from ..schemes.prefix_networks import NETWORKS, build, ceil_log2 as levels_of, from_rows, validate
 from ..spec.loader import make_spec
 from .local import Bounds, anneal
 from .prefix_dp import Solver, rows_from_ops
