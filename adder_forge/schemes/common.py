@@ -6,7 +6,7 @@ from dataclasses import dataclass
 
 from ..ir.builder import Builder
 from ..ir.interface import Interface, of_spec
-from ..ir.network import Network, PrefixGraph
+from ..ir.network import META_SCHEME, Network, PrefixGraph
 from ..spec.registry import value_text
 
 
@@ -42,7 +42,7 @@ def start(spec) -> Frame:
         b = [build.XOR(x, sub, f"bx{i}", "operand") for i, x in enumerate(raw)]
     if cin is None:  # the carry into the network without a carry-in port: 0, subtraction's 1, or sub
         cin = sub if iface.operation == "add-subtract" else build.const(int(iface.operation == "subtract"))
-    build.meta.append(("scheme", spec.scheme))
+    build.meta.append((META_SCHEME, spec.scheme))
     for k, v in spec.options:
         if v is not None:  # keys that do not apply to this form (e.g. taxonomy for kogge-stone)
             build.meta.append((k, value_text(v)))
