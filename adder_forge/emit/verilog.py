@@ -99,7 +99,9 @@ def port_decls(net: Network) -> list[dict]:
     return decls
 
 
-def emit_module(net: Network, header: list[str]) -> str:
+def emit_module(net: Network, header: list[str], keep: frozenset[str] = frozenset()) -> str:
+    """The module's text. ``keep``: roles whose wires get ``(* keep *)``, so that synthesis must build each of
+    them as a net of its own (the structure-kept FPGA flow keeps the carries this way)."""
     from .templating import render
 
     wires, vectors = [], []
@@ -112,7 +114,7 @@ def emit_module(net: Network, header: list[str]) -> str:
             vectors.append({"name": n.name, "msb": bits - 1, "expr": _add_expr(net, i, bits),
                             "unread": i in unread})
         elif n.op not in ("INPUT", "CONST", "PICK"):
-            wires.append({"name": n.name, "expr": expression(net, i)})
+            wires.append({"name": n.name, "expr": expression(net, i), "keep": n.role in keep})
     outputs = [{"name": p.name, "expr": concat(net, list(reversed(p.bits)))} for p in net.outputs]
     return render("module.v.j2", header=header, name=net.name, ports=port_decls(net), wires=wires,
                   vectors=vectors, outputs=outputs)
