@@ -38,6 +38,8 @@ def _parser() -> argparse.ArgumentParser:
                    help="replace output files that adder_forge did not write or that were edited since")
     b.add_argument("--hdl", default="verilog", metavar="FORMS",
                    help="comma list of verilog, vhdl: the forms of the adder and testbench to write (default verilog)")
+    b.add_argument("--draw", action="store_true",
+                   help="also write NAME_prefix.svg, a drawing of the prefix network (prefix adders)")
 
     v = sub.add_parser("verify", help="check that each spec's adder adds: built-in, simulators, formal")
     v.add_argument("specs", nargs="+", metavar="SPEC")
@@ -65,7 +67,41 @@ def _parser() -> argparse.ArgumentParser:
     d.add_argument("specs", nargs="+", metavar="SPEC")
 
     sub.add_parser("schemes", help="list the carry schemes and the keys each accepts")
+
+    e = sub.add_parser("explore", help="sweep widths x variants: check, measure, Pareto plots and an HTML report")
+    e.add_argument("sweep", metavar="SWEEP")
+    e.add_argument("--out", metavar="DIR", help="output folder (default: out/NAME, NAME the sweep's name)")
+    _run_options(e)
+    e.add_argument("--table-only", action="store_true", help="write results.csv and results.json only (no plots, no report)")
+    e.add_argument("--force", action="store_true",
+                   help="replace output files that adder_forge did not write or that were edited since")
+    _pick_parser(sub)
     return ap
+
+
+def _pick_parser(sub) -> None:
+    k = sub.add_parser("pick", help="the adder to use at one width under a delay limit, with the runners-up and why")
+    k.add_argument("--width", type=int, required=True, metavar="N")
+    k.add_argument("--target", required=True, metavar="FIGURE",
+                   help="the delay figure to constrain: unit_gate_delay, le_fo4, abc_depth, yosys_depth, lut6_depth, "
+                        "ice40_fmax_mhz (a minimum), ...")
+    k.add_argument("--max-delay", type=float, required=True, metavar="X",
+                   help="the limit on the target figure (for a frequency such as Fmax: the least acceptable)")
+    k.add_argument("--minimize", default="area", metavar="area|delay", help="what to minimise within the limit (default area)")
+    k.add_argument("--carry-in", action=argparse.BooleanOptionalAction, default=True, help="with a carry-in port (default yes)")
+    k.add_argument("--name", metavar="NAME", help="module name of the chosen adder (default pick_wN)")
+    k.add_argument("--out", default="out", metavar="DIR", help="the chosen spec and its build go into DIR/NAME/ (default out)")
+    _run_options(k)
+    k.add_argument("--force", action="store_true",
+                   help="replace output files that adder_forge did not write or that were edited since")
+
+
+def _run_options(p) -> None:
+    """Options of the commands that run sweeps (explore, pick)."""
+    p.add_argument("--executor", default="local", metavar="NAME", help="local (a process pool, default) or dask")
+    p.add_argument("--scheduler", metavar="ADDRESS", help="the Dask scheduler for --executor dask (tcp://host:8786)")
+    p.add_argument("--jobs", type=int, metavar="N", help="local worker processes (default: one per core; 1: in this process)")
+    p.add_argument("--cache", metavar="DIR", help="figure cache (default: $ADDER_FORGE_CACHE or ~/.cache/adder_forge/figures)")
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -75,7 +111,7 @@ def main(argv: list[str] | None = None) -> int:
     # A tool's own word for the user (the first WebAssembly compile takes a minute) reaches stderr.
     set_listener(lambda message: print(f"... {message}", file=sys.stderr, flush=True))
     try:
-        for option in ("out", "keep"):
+        for option in ("out", "keep", "cache"):
             if getattr(args, option, None) is not None:
                 check_folder(getattr(args, option), args.command, f"--{option}")
         return _COMMANDS[args.command](args)
@@ -138,9 +174,18 @@ def cmd_build(args) -> int:
         raise UsageError(f"--tb-vectors must be 0 or more, got {args.tb_vectors}", "build", "--tb-vectors")
     hdl = _hdl(args.hdl)
     designs = [replace(d, hdl=hdl) for d in _designs(_load_all(args.specs), args.tb_vectors, args.seed, _progress())]
-    written = write_folders(Path(args.out), [output_folder(d) for d in designs], force=args.force)
+    folders = [output_folder(d) for d in designs]
+    if args.draw:
+        from .emit.prefix_svg import drawing_files
+
+        folders = [replace(f, files={**f.files, **drawing_files(d.spec, d.net)}) for f, d in zip(folders, designs)]
+    written = write_folders(Path(args.out), folders, force=args.force)
     for d, w in zip(designs, written):
-        print(_build_line(d, w.path) + "".join(f"; {n}" for n in w.notes))
+        drawn = ""
+        if args.draw:
+            drawn = f"; prefix graph in {d.spec.name}_prefix.svg" if d.net.prefix is not None else \
+                "; no prefix network to draw"
+        print(_build_line(d, w.path) + drawn + "".join(f"; {n}" for n in w.notes))
     return EXIT_OK
 
 
@@ -256,13 +301,10 @@ def cmd_dump(args) -> int:
 
 
 def cmd_schemes(args) -> int:
-    from .spec.registry import schemes
+    from .spec.registry import schemes, value_text
 
     def key(o) -> str:  # a default that picks something (prefix: kogge-stone) is shown, not implied
-        if o.default is None:
-            return o.key
-        d = str(o.default).lower() if isinstance(o.default, bool) else o.default
-        return f"{o.key} (default {d})"
+        return o.key if o.default is None else f"{o.key} (default {value_text(o.default)})"
 
     for s in schemes().values():
         keys = ", ".join(key(o) for o in s.options) or "-"
@@ -271,7 +313,64 @@ def cmd_schemes(args) -> int:
     return EXIT_OK
 
 
-_COMMANDS = {"build": cmd_build, "verify": cmd_verify, "report": cmd_report, "dump": cmd_dump, "schemes": cmd_schemes}
+def _check_run_options(args, command: str) -> None:
+    from .explore.executors import get
+
+    get(args.executor, command)
+    if args.jobs is not None and args.jobs < 1:
+        raise UsageError(f"--jobs must be 1 or more, got {args.jobs}", command, "--jobs")
+
+
+def cmd_explore(args) -> int:
+    from .explore.job import explore
+
+    _check_run_options(args, "explore")
+    done = explore(args.sweep, args.out, args.cache, args.executor, args.jobs, args.scheduler, _progress(),
+                   force=args.force, draw=not args.table_only)
+    out = done.outcome
+    sw = out.sweep
+    print(f"{sw.name}: {len(sw.points)} adders ({len(sw.labels)} variants incl. + x {len(sw.widths)} widths), "
+          f"figures {', '.join(sw.figures)}; {out.computed} tasks computed, {out.cached} from the cache"
+          + (f", {out.failed} failed" if out.failed else ""))
+    for s in sw.skipped:
+        print(f"  skipped {s.label} at {s.width} bits: {s.reason}")
+    from .explore.run import CHECK, check_text
+
+    bad = [(p, check_text(out.entries.get((p.spec.name, CHECK)))) for p in sw.points]
+    bad = [(p, t) for p, t in bad if t != "pass"]
+    for p, t in bad:
+        print(f"  {p.spec.name}: built-in check {t}")
+    for note in done.written.notes if done.written else ():
+        print(f"  {note}")
+    plots = sum(f.endswith((".png", ".svg")) for f in done.files)
+    print(f"{sw.name}: results in {done.written.path}/ ({', '.join(f for f in done.files if not f.endswith(('.png', '.svg')))}"
+          + (f" and {plots} plot files)" if plots else ")"))
+    return EXIT_MISMATCH if any(t.startswith("FAIL") for _, t in bad) else EXIT_OK
+
+
+def cmd_pick(args) -> int:
+    from .explore.job import run
+    from .explore.pick import candidates_sweep, check_args, choose, explain, write_choice
+
+    _check_run_options(args, "pick")
+    name = args.name or f"pick_w{args.width}"
+    target, area = check_args(args.width, args.target, args.max_delay, args.minimize, name)
+    sweep = candidates_sweep(args.width, target, args.carry_in, name)
+    out = run(sweep, args.cache, args.executor, args.jobs, args.scheduler, _progress())
+    picked = choose(out, target, area, args.max_delay, args.minimize)
+    print(f"pick: {len(sweep.points)} adders at {args.width} bits ({out.computed} tasks computed, "
+          f"{out.cached} from the cache)")
+    for line in explain(picked):
+        print(line)
+    if picked.winner is None:
+        return EXIT_MISMATCH
+    written, d = write_choice(picked, name, args.out, force=args.force)
+    print(f"{name}: spec {name}.yaml and its build -> {written.path}/"
+          + "".join(f"; {n}" for n in written.notes))
+    return EXIT_OK
+
+
+_COMMANDS = {"explore": cmd_explore, "pick": cmd_pick, "build": cmd_build, "verify": cmd_verify, "report": cmd_report, "dump": cmd_dump, "schemes": cmd_schemes}
 
 
 if __name__ == "__main__":

@@ -13,10 +13,10 @@ from pathlib import Path
 import pytest
 
 from adder_forge import cli
-from adder_forge.base.errors import SpecError, ToolError, UsageError
+from adder_forge.base.errors import SpecError, UsageError
 from adder_forge.base.tools import Command, Result
 from adder_forge.checks import ghdl, simulators, verify as verify_mod
-from adder_forge.checks.outcome import outcome, outcomes, parse, read
+from adder_forge.checks.outcome import outcome, parse, read
 from adder_forge.checks.simulators import SIMULATORS, simulate
 from adder_forge.checks.verify import CHECKERS, select, verify
 from adder_forge.emit.design import design
@@ -299,11 +299,10 @@ def test_verify_rows_for_a_mismatch_in_a_simulator(spec_file, capsys, monkeypatc
     assert rows[4:] == ["2 passed, 2 failed"]
 
 
-def test_a_missing_simulator_is_a_tool_failure_after_the_finished_rows(spec_file, capsys, monkeypatch):
-    def missing(tool):
-        raise ToolError(f"{tool} not found", "install it")
+def test_a_missing_simulator_is_a_tool_failure_after_the_finished_rows(spec_file, capsys, monkeypatch, tmp_path):
+    from adder_forge.base import tools
 
-    monkeypatch.setattr(ghdl, "find", missing)
+    monkeypatch.setattr(tools, "search_path", lambda: str(tmp_path))  # a PATH with no GHDL on it
     code, out, err = run_cli(["verify", spec_file(), "--sim", "ghdl"], capsys)
     assert code == 3
     assert out.splitlines() == ["add4  builtin          pass  512 vectors; exhaustive, 2^9 vectors",

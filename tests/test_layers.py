@@ -11,7 +11,7 @@ import adder_forge
 
 PKG = Path(adder_forge.__file__).parent
 # lowest first; a module may import its own layer and any layer before it
-LAYERS = ["base", "spec", "ir", "schemes", "analysis", "emit", "checks", "synth", "search"]
+LAYERS = ["base", "spec", "ir", "schemes", "analysis", "emit", "checks", "synth", "search", "explore"]
 TOP = {"adder_forge", "adder_forge.cli", "adder_forge.__main__", "adder_forge.amaranth"}
 
 

@@ -178,9 +178,6 @@ class Ghdl(Simulator):
     shares_builds = False  # one analysis already serves every design; each runs on its own
     build_failure = "could not analyse the VHDL"
 
-    def require(self) -> None:
-        ghdl.ghdl()
-
     def refuse(self, spec):
         from ..emit.vhdl import entity_problem
 

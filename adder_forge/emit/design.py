@@ -7,7 +7,7 @@ from dataclasses import dataclass
 from ..ir.network import Network
 from ..analysis.structure import metrics
 from ..schemes import elaborate
-from .summary import header_lines, report, to_json
+from .summary import header_lines, design_summary, to_json
 from ..spec.loader import Spec
 from .testbench import Testbench, emit_testbench, line_bits, line_bytes
 from .verilog import emit_module
@@ -39,13 +39,13 @@ class Design:
 
             out.update(vhdl_files(self))
         out[f"{n}_vectors.hex"] = self.testbench.vectors_hex
-        out[f"{n}.json"] = to_json(self.report())
+        out[f"{n}.json"] = to_json(self.summary())
         return out
 
-    def report(self, extra: dict | None = None) -> dict:
+    def summary(self, extra: dict | None = None) -> dict:
         tb = {"testbench": {"vectors": self.testbench.count, "plan": self.plan}}
         tb.update(extra or {})
-        return report(self.spec, self.metrics, tb, self.net.meta)
+        return design_summary(self.spec, self.metrics, tb, self.net.meta)
 
 
 def design(spec: Spec, net: Network | None = None, tb_random: int = TB_RANDOM, seed: int = 1,

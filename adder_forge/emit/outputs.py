@@ -45,7 +45,8 @@ Carry = Callable[[str, Path, str, bool], "tuple[str, str | None]"]
 
 @dataclass(frozen=True)
 class Folder:
-    """One output folder to write: ``out_dir/name`` with ``files`` (file name -> text)."""
+    """One output folder to write: ``out_dir/name`` with ``files`` (file name -> text, or bytes for a
+    binary file such as a PNG)."""
 
     name: str
     files: dict[str, str]
@@ -68,8 +69,9 @@ class _Plan:
     notes: list[str] = field(default_factory=list)
 
 
-def sha256_text(text: str) -> str:
-    return hashlib.sha256(text.encode("utf-8")).hexdigest()
+def sha256_text(text: str | bytes) -> str:
+    """SHA-256 of a file's content: text as UTF-8, or bytes as they are (a PNG plot)."""
+    return hashlib.sha256(text if isinstance(text, bytes) else text.encode("utf-8")).hexdigest()
 
 
 def fingerprint(*parts) -> str:
@@ -280,7 +282,13 @@ def _umask() -> int:
     return mask
 
 
-def _write(path: Path, text: str) -> None:
+def _write(path: Path, text: str | bytes) -> None:
+    if isinstance(text, bytes):
+        with open(path, "wb") as fh:
+            fh.write(text)
+            fh.flush()
+            os.fsync(fh.fileno())
+        return
     with open(path, "w", encoding="utf-8", newline="") as fh:
         fh.write(text)
         fh.flush()

@@ -10,10 +10,9 @@ from typing import Any
 import yaml
 
 from ..base.errors import SpecError
-from ..base.keywords import BUILTIN_NAMES, RESERVED
+from ..base.keywords import BUILTIN_NAMES, IDENT, RESERVED
 from .registry import MAX_WIDTH, Option, bool_option, schemes, shown, suggest, type_name, yaml11_hint
 
-_IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
 
 # Names the tool derives from a spec's name or uses for its own modules. A spec name may not take one of
 # them, so that no module or file the tool writes can clash with a user's adder (README, "Names").
@@ -60,9 +59,6 @@ class Spec:
         line, col = self.where(key)
         return SpecError(message, self.source, line, col, key)
 
-    def given(self, key: str) -> bool:
-        return any(k == key for k, _, _ in self.positions)
-
     def to_dict(self) -> dict[str, Any]:
         d: dict[str, Any] = {"name": self.name, "width": self.width, "scheme": self.scheme,
                              "carry_in": self.carry_in, "carry_out": self.carry_out}
@@ -87,25 +83,31 @@ def make_spec(name: str, width: int, scheme: str, carry_in: bool = True, carry_o
 
 
 def load_spec(path: str | Path) -> Spec:
+    return parse_spec(read_source(path), str(path))
+
+
+def read_source(path: str | Path, what: str = "spec") -> str:
+    """The text of a YAML input file (a spec, a sweep); anything that is not a readable UTF-8 file of
+    reasonable size is a SpecError at line 1."""
     path = Path(path)
     src = str(path)
     try:
         if path.is_dir():
-            raise SpecError("is a folder, not a spec file", src, 1, 1)
+            raise SpecError(f"is a folder, not a {what} file", src, 1, 1)
         if path.exists() and not path.is_file():  # a FIFO or a device would block a read, or never end
             raise SpecError("is not a regular file", src, 1, 1)
         if path.is_file() and path.stat().st_size > MAX_SPEC_BYTES:
-            raise SpecError(f"the spec is larger than {MAX_SPEC_BYTES >> 20} MiB: is this the right file?", src, 1, 1)
+            raise SpecError(f"the {what} is larger than {MAX_SPEC_BYTES >> 20} MiB: is this the right file?", src, 1, 1)
         text = path.read_text(encoding="utf-8")
     except FileNotFoundError:
         raise SpecError("no such file", src, 1, 1) from None
     except UnicodeDecodeError as exc:
         line = exc.object[: exc.start].count(b"\n") + 1
         col = exc.start - (exc.object.rfind(b"\n", 0, exc.start) + 1) + 1
-        raise SpecError(f"the spec is not UTF-8 text (byte 0x{exc.object[exc.start]:02x})", src, line, col) from None
+        raise SpecError(f"the {what} is not UTF-8 text (byte 0x{exc.object[exc.start]:02x})", src, line, col) from None
     except OSError as exc:
-        raise SpecError(f"cannot read spec: {exc.strerror or exc}", src, 1, 1) from None
-    return parse_spec(text, src)
+        raise SpecError(f"cannot read {what}: {exc.strerror or exc}", src, 1, 1) from None
+    return text
 
 
 # -- YAML: the 1.2 core schema --------------------------------------------------------------------------------
@@ -179,7 +181,9 @@ def _first_line(exc: BaseException) -> str:
     return (str(exc).strip().splitlines() or [type(exc).__name__])[0]
 
 
-def parse_spec(text: str, source: str = "<spec>") -> Spec:
+def compose(text: str, source: str = "<spec>"):
+    """The YAML node tree of ``text`` (YAML 1.2 core schema), each node with its line and column; a YAML
+    error is a SpecError at its place. Shared by specs and sweep files."""
     try:
         root = yaml.compose(text, Loader=_Loader)
     except yaml.MarkedYAMLError as exc:
@@ -197,6 +201,26 @@ def parse_spec(text: str, source: str = "<spec>") -> Spec:
         raise SpecError(f"invalid YAML: {_first_line(exc)}", source, 1, 1) from None
     except RecursionError:
         raise SpecError("invalid YAML: nested too deeply", source, 1, 1) from None
+    return root
+
+
+def construct(node, key: str, source: str):
+    """The Python value of the YAML node given for ``key``; an error is a SpecError at the value."""
+    try:
+        return _Loader("").construct_object(node, deep=True)
+    except yaml.MarkedYAMLError as exc:
+        mark = exc.problem_mark or node.start_mark
+        why = exc.problem or _first_line(exc)
+        raise SpecError(f"invalid value for '{shown(key)}': {why}", source, mark.line + 1, mark.column + 1,
+                        key) from None
+    except (yaml.YAMLError, ValueError, TypeError, RecursionError) as exc:
+        why = "nested too deeply" if isinstance(exc, RecursionError) else _first_line(exc)
+        raise SpecError(f"invalid value for '{shown(key)}': {why}", source, node.start_mark.line + 1,
+                        node.start_mark.column + 1, key) from None
+
+
+def parse_spec(text: str, source: str = "<spec>") -> Spec:
+    root = compose(text, source)
     if root is None:
         raise SpecError("the spec is empty: expected a mapping with at least name, width and scheme", source, 1, 1)
     if not isinstance(root, yaml.MappingNode):
@@ -205,7 +229,6 @@ def parse_spec(text: str, source: str = "<spec>") -> Spec:
     data: dict[str, Any] = {}
     pos: dict[str, tuple[int, int]] = {}
     key_pos: dict[str, tuple[int, int]] = {}
-    constructor = _Loader("")
     for knode, vnode in root.value:
         kl, kc = knode.start_mark.line + 1, knode.start_mark.column + 1
         if not isinstance(knode, yaml.ScalarNode):
@@ -213,17 +236,7 @@ def parse_spec(text: str, source: str = "<spec>") -> Spec:
         key = knode.value
         if key in data:
             raise SpecError(f"key '{shown(key)}' given twice (first at line {key_pos[key][0]})", source, kl, kc, key)
-        try:
-            data[key] = constructor.construct_object(vnode, deep=True)
-        except yaml.MarkedYAMLError as exc:
-            mark = exc.problem_mark or vnode.start_mark
-            why = exc.problem or _first_line(exc)
-            raise SpecError(f"invalid value for '{shown(key)}': {why}", source, mark.line + 1, mark.column + 1,
-                            key) from None
-        except (yaml.YAMLError, ValueError, TypeError, RecursionError) as exc:
-            why = "nested too deeply" if isinstance(exc, RecursionError) else _first_line(exc)
-            raise SpecError(f"invalid value for '{shown(key)}': {why}", source, vnode.start_mark.line + 1,
-                            vnode.start_mark.column + 1, key) from None
+        data[key] = construct(vnode, key, source)
         pos[key] = (vnode.start_mark.line + 1, vnode.start_mark.column + 1)
         key_pos[key] = (kl, kc)
     return from_mapping(data, source, pos, key_pos)
@@ -266,7 +279,7 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
     name = data["name"]
     if not isinstance(name, str):
         fail_at("name", f"'name' must be a Verilog identifier, got {type_name(name)}")
-    if not _IDENT.match(name):
+    if not IDENT.match(name):
         fail_at("name", f"'name' must be a legal Verilog identifier (letters, digits, _; not starting with a digit), got '{shown(name)}'")
     if name in RESERVED:
         fail_at("name", f"'name' '{name}' is a Verilog/SystemVerilog keyword")
@@ -309,8 +322,8 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
 
     positions = tuple((k, *pos[k]) for k in data if k in pos)
     spec = Spec(name, width, scheme_name, flags["carry_in"], flags["carry_out"], tuple(options), source, positions)
-    if sch.check is not None:
-        sch.check(spec)
+    if sch.validate is not None:
+        sch.validate(spec)
     return spec
 
 

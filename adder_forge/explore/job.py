@@ -1,0 +1,51 @@
+"""`explore`: read a sweep, run it, write DIR/results.csv, results.json (and the plots and report)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+from ..base.progress import NULL, Progress
+from ..emit.outputs import Folder, Written, fingerprint, write_folders
+from .cache import default_root
+from .executors import get
+from .results import to_csv, to_json
+from .run import Outcome, run_sweep
+from .sweep import Sweep, load_sweep
+
+
+@dataclass(frozen=True)
+class Explored:
+    outcome: Outcome
+    written: Written | None
+    files: tuple[str, ...]
+
+
+def output_files(out: Outcome, draw: bool = True) -> dict[str, str | bytes]:
+    files: dict[str, str | bytes] = {"results.csv": to_csv(out), "results.json": to_json(out)}
+    if draw:
+        from .report import report_files
+
+        files.update(report_files(out))
+    return files
+
+
+def run(sweep: Sweep, cache: str | Path | None = None, executor: str = "local", jobs: int | None = None,
+        scheduler: str | None = None, progress: Progress = NULL) -> Outcome:
+    ex = get(executor)
+    with ex.open(jobs, scheduler) as pool:
+        return run_sweep(sweep, cache or default_root(), pool, progress, store_on_worker=ex.store_on_worker)
+
+
+def explore(path: str | Path, out_dir: str | Path | None = None, cache: str | Path | None = None,
+            executor: str = "local", jobs: int | None = None, scheduler: str | None = None,
+            progress: Progress = NULL, force: bool = False, draw: bool = True) -> Explored:
+    """The whole `explore` command: results into ``out_dir`` (default out/NAME), all-or-nothing."""
+    sweep = load_sweep(path)
+    target = Path(out_dir) if out_dir is not None else Path("out") / sweep.name
+    target = target.resolve()
+    out = run(sweep, cache, executor, jobs, scheduler, progress)
+    files = output_files(out, draw)
+    design = fingerprint(files["results.json"])
+    written = write_folders(target.parent, [Folder(target.name, files, design)], force=force)[0]
+    return Explored(out, written, tuple(files))

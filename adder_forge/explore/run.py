@@ -1,0 +1,231 @@
+"""Running a sweep: every adder built, checked against integer addition and measured, in parallel, cached.
+
+The work is a list of tasks, one per (adder, family): the built-in check (family ``check``), the IR
+estimates, each synthesis flow. A task is a plain function of picklable arguments (``run_task``), so any
+``concurrent.futures`` executor runs it: a process pool on the local cores, or a Dask cluster's
+``Client.get_executor()`` (executors.py). A task looks in the cache first, computes on a miss and stores
+its entry; the caller stores what comes back too, so figures computed on a worker without the cache's
+file system are kept as well.
+
+A failure is a result: a mismatch found by the built-in check is recorded (and cached, since it is what
+the adder does), a tool error or a crashed worker is recorded and not cached (the next run tries again);
+neither stops the sweep, and every table, plot and `pick` shows it.
+"""
+
+from __future__ import annotations
+
+import time
+import traceback
+from concurrent.futures import FIRST_COMPLETED, wait
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+
+from ..base.errors import AdderForgeError
+from ..base.progress import NULL, Progress
+from ..spec.loader import Spec
+from .cache import Cache, key as cache_key
+from ..base.records import Record, from_dict
+from .figures import family_figures, tool_versions
+from ..emit.outputs import sha256_text
+from .sweep import ESTIMATES, Point, Sweep
+
+CHECK = "check"  # the built-in check, a family of its own: it runs once per adder, whatever is measured
+CHECK_RANDOM = 2000  # random vectors beside the directed ones, where the check is not exhaustive
+CHECK_SEED = 1
+
+
+@dataclass(frozen=True)
+class Task:
+    spec: Spec
+    family: str
+    key: str
+
+
+KEY_NAME = "adder"  # the name every network is elaborated under for its key: a name changes no figure
+
+
+def ir_digest(spec: Spec) -> str:
+    """A digest of the network the spec elaborates to (its IR dump, under a fixed name)."""
+    from ..ir.network import dump
+    from ..schemes import elaborate
+
+    return sha256_text(dump(elaborate(replace(spec, name=KEY_NAME))))
+
+
+def task_for(spec: Spec, family: str, network: str) -> Task:
+    """``network``: ir_digest(spec). The key: the network, the family, the code and tools that measure it
+    (figures.tool_versions) and, for the check, its vector plan."""
+    extra = {"random": CHECK_RANDOM, "seed": CHECK_SEED} if family == CHECK else None
+    return Task(spec, family, cache_key({"network": network}, family, tool_versions(family), extra))
+
+
+def compute(spec: Spec, family: str) -> dict:
+    """One task's entry: {"family", "versions", "records" (dicts of base.records.Record), "note"} or
+    {"family", "versions", "error"}. The records are the ones `report` makes of the same adder."""
+    from ..analysis import figures as analysis_figures
+    from ..analysis.structure import metrics
+    from ..base.records import make_records
+    from ..schemes import elaborate
+    from ..synth.flows import get_flow, synthesize, tool_version
+    from ..synth.measure import spec_digest
+
+    versions = tool_versions(family)
+    try:
+        net = elaborate(spec)
+        if family == CHECK:
+            return {"family": family, "versions": versions, "result": _check(spec, net)}
+        digest = spec_digest(spec)
+        m = metrics(net)
+        if family == ESTIMATES:
+            from ..analysis.delay import estimates
+
+            est = estimates(net)
+            raw_of = {"netlist": m, "estimates": est}
+            recs = []
+            for src, figs in analysis_figures.SOURCES.items():
+                recs += make_records(spec.name, digest, src, figs, raw_of[src], analysis_figures.TOOL, tool_version)
+            return {"family": family, "versions": versions, "records": [r.to_dict() for r in recs],
+                    "note": est.get("note", "")}
+        from ..emit.summary import header_lines
+        from ..emit.verilog import emit_module
+
+        flow = get_flow(family)
+        verilog = emit_module(net, header_lines(spec, m, net.meta))
+        raw = synthesize(family, spec.name, verilog, width=spec.width, carry_in=spec.carry_in,
+                         carry_out=spec.carry_out)
+        seed = raw.get("seed") if isinstance(raw.get("seed"), int) else None
+        recs = make_records(spec.name, digest, family, flow.figures, raw, flow.main_tool, tool_version, seed)
+        mapper = str(raw.get("mapper", ""))  # the LUT mapper, when abc9 had to give way to classic ABC
+        return {"family": family, "versions": versions, "records": [r.to_dict() for r in recs],
+                "note": "" if mapper in ("", "abc9") else f"mapped by {mapper}"}
+    except AdderForgeError as exc:
+        hint = getattr(exc, "hint", "")
+        why = str(getattr(exc, "message", exc)) + (f": {hint.strip().splitlines()[-1]}" if hint and hint.strip() else "")
+        return {"family": family, "versions": versions, "error": why}
+
+
+def _check(spec: Spec, net) -> dict:
+    from ..checks.builtin import check
+    from ..checks.verify import builtin_plan
+
+    r = check(net, builtin_plan(spec, CHECK_RANDOM, CHECK_SEED), workers=1)
+    return {"ok": r.ok, "vectors": r.vectors, "failed": r.failed, "detail": r.detail}
+
+
+def run_task(task: Task, cache_root: str | None) -> dict:
+    """What a worker runs: the cached entry, or the computed one (stored when the cache is reachable).
+    ``computed`` and ``seconds`` say what this call did; neither is stored."""
+    cache = Cache(cache_root) if cache_root else None
+    if cache is not None:
+        hit = cache.get(task.key)
+        if hit is not None:
+            return {**hit, "computed": False}
+    t0 = time.monotonic()
+    entry = compute(task.spec, task.family)
+    if cache is not None and "error" not in entry:
+        cache.put(task.key, entry)
+    return {**entry, "computed": True, "seconds": round(time.monotonic() - t0, 3)}
+
+
+@dataclass
+class Outcome:
+    sweep: Sweep
+    entries: dict[tuple[str, str], dict]  # (spec name, family) -> entry
+    computed: int = 0
+    cached: int = 0
+    failed: int = 0  # tasks that ended in an error (a tool, a crashed worker); not a check mismatch
+    seconds: dict[str, float] = field(default_factory=dict)  # family -> time spent computing
+
+
+def families(sweep: Sweep) -> tuple[str, ...]:
+    return (CHECK, *sweep.figures)
+
+
+def run_sweep(sweep: Sweep, cache_root: str | Path, executor=None, progress: Progress = NULL,
+              store_on_worker: bool = True) -> Outcome:
+    """Run every task of the sweep. ``executor``: a concurrent.futures executor, or None to run here, one
+    task after another. Cached entries are taken without submitting anything."""
+    cache = Cache(cache_root)
+    out = Outcome(sweep, {})
+    todo: list[Task] = []
+    for p in sweep.points:
+        network = ir_digest(p.spec)
+        for fam in families(sweep):
+            t = task_for(p.spec, fam, network)
+            hit = cache.get(t.key)
+            if hit is not None:
+                out.entries[(p.spec.name, fam)] = hit
+                out.cached += 1
+            else:
+                todo.append(t)
+    with progress.task(f"{sweep.name}: adders x figures", total=len(todo), unit="tasks") as bar:
+        def done(t: Task, entry: dict) -> None:
+            if entry.pop("computed", False):
+                out.computed += 1
+                out.seconds[t.family] = round(out.seconds.get(t.family, 0.0) + entry.get("seconds", 0.0), 3)
+            else:
+                out.cached += 1
+            entry.pop("seconds", None)
+            if "error" in entry:
+                out.failed += 1
+            elif cache.get(t.key) is None:
+                cache.put(t.key, entry)
+            out.entries[(t.spec.name, t.family)] = entry
+            bar.advance()
+
+        if executor is None:
+            for t in todo:
+                done(t, run_task(t, str(cache.root)))
+            return out
+        root = str(cache.root) if store_on_worker else None
+        pending = {executor.submit(run_task, t, root): t for t in todo}
+        while pending:
+            finished, _ = wait(list(pending), return_when=FIRST_COMPLETED)
+            for fut in finished:
+                t = pending.pop(fut)
+                try:
+                    entry = fut.result()
+                except Exception as exc:  # a worker that died or a bug: recorded, the sweep goes on
+                    last = traceback.format_exception_only(type(exc), exc)[-1].strip()
+                    entry = {"family": t.family, "versions": tool_versions(t.family),
+                             "error": f"the task did not finish: {last}", "computed": True}
+                done(t, entry)
+    return out
+
+
+# -- the results as rows ----------------------------------------------------------------------------------------
+def check_text(entry: dict | None) -> str:
+    if entry is None:
+        return "not run"
+    if "error" in entry:
+        return f"error: {entry['error']}"
+    r = entry["result"]
+    if r["ok"]:
+        return "pass"
+    return f"FAIL: {r['failed']} of {r['vectors']} vectors wrong" + (f" ({r['detail']})" if r.get("detail") else "")
+
+
+def records_of(out: Outcome, p: Point, family: str) -> list[Record]:
+    """The records of one adder and family. A cached entry may have been measured under another name (the
+    cache key leaves the name out, as the figures do): the records take this adder's name."""
+    e = out.entries.get((p.spec.name, family))
+    if not e or "records" not in e:
+        return []
+    return [from_dict({**r, "spec": p.spec.name}) for r in e["records"]]
+
+
+def figure_table(out: Outcome) -> dict[str, dict[str, float | int | None]]:
+    """spec name -> {figure: value}, every declared figure of every family swept (None where none)."""
+    table = {}
+    for p in out.sweep.points:
+        figs: dict = {}
+        for fam in out.sweep.figures:
+            figs.update({f.name: None for f in family_figures(fam)})
+            figs.update({r.figure: r.value for r in records_of(out, p, fam)})
+        table[p.spec.name] = figs
+    return table
+
+
+def passed(out: Outcome, p: Point) -> bool:
+    e = out.entries.get((p.spec.name, CHECK))
+    return bool(e and "error" not in e and e["result"]["ok"])
