@@ -18,6 +18,7 @@ machine), so run it in the background with nice.
 from __future__ import annotations
 
 import json
+import os
 import sys
 import tempfile
 import time
@@ -85,13 +86,19 @@ def measure(family: str, width: int, label: str, scheme: str, keys: dict, struct
 
 
 def run_family(family: str, widths) -> int:
+    """FPGA_LABELS=+,chain-prefix limits the run to those rows; FPGA_TAG=x writes fpga_FAMILY_x.json, so that
+    two runs can go on at once (the table reads every fpga_FAMILY*.json)."""
     RESULTS.mkdir(parents=True, exist_ok=True)
-    out_path = RESULTS / f"fpga_{family}.json"
+    tag = os.environ.get("FPGA_TAG", "")
+    only = [x for x in os.environ.get("FPGA_LABELS", "").split(",") if x]
+    out_path = RESULTS / f"fpga_{family}{'_' + tag if tag else ''}.json"
     keep = [r for r in (json.loads(out_path.read_text(encoding="utf-8")) if out_path.exists() else [])
             if r["width"] not in widths]  # a run over some widths keeps the others' results
     rows = keep
     for w in widths:
         for label, scheme, keys, structure in variants(family, w):
+            if only and label not in only:
+                continue
             try:
                 row = measure(family, w, label, scheme, keys, structure)
             except Wrong as exc:

@@ -13,11 +13,12 @@ DOCS = ROOT / "docs"
 
 def load(family: str) -> list[dict]:
     rows = []
-    for name in (f"fpga_{family}.json", f"fpga_{family}-85k.json"):
-        p = RESULTS / name
-        if p.exists():
-            rows += json.loads(p.read_text(encoding="utf-8"))
-    return rows
+    for p in sorted(RESULTS.glob(f"fpga_{family}*.json")):
+        rows += json.loads(p.read_text(encoding="utf-8"))
+    latest = {}  # a design measured by two runs: the later file's row
+    for r in rows:
+        latest[(r["width"], r["label"], r["structure"])] = r
+    return sorted(latest.values(), key=lambda r: r["width"])
 
 
 def _name(r: dict) -> str:
