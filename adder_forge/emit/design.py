@@ -58,5 +58,11 @@ def design(spec: Spec, net: Network | None = None, tb_random: int = TB_RANDOM, s
     limit = min(tb_exhaustive_limit, tb_max_bytes // line_bytes(line_bits(iface)))
     plan = plan_for(iface, limit, tb_random, seed)
     tb = emit_testbench(spec.name, iface, plan, tb_max_bytes)
-    return Design(spec, net, m, emit_module(net, header_lines(spec, m, net.meta)), tb,
-                  plan.describe() + tb.pick.summary())
+    header = header_lines(spec, m, net.meta)
+    if spec.form == "parameterized":
+        from .param_verilog import emit_param
+
+        verilog = emit_param(spec, header)
+    else:
+        verilog = emit_module(net, header)
+    return Design(spec, net, m, verilog, tb, plan.describe() + tb.pick.summary())
