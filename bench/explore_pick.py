@@ -23,7 +23,7 @@ from adder_forge.explore.job import run
 from adder_forge.explore.pick import candidates_sweep, choose, explain, within
 
 DEFAULT = ["16:unit_gate_delay:14", "32:le_fo4:12", "64:unit_gate_delay:30:area", "32:abc_depth:20",
-           "16:lut6_depth:6", "64:lut6_depth:10:delay"]
+           "16:lut6_depth:6", "32:lut6_depth:8:delay", "64:abc_depth:20:delay"]
 
 
 def main(argv=None) -> int:
