@@ -34,6 +34,12 @@ class Design:
     def files(self) -> dict[str, str]:
         n = self.spec.name
         out = {f"{n}.v": self.verilog, f"{n}_tb.v": self.testbench.verilog} if "verilog" in self.hdl else {}
+        if "verilog" in self.hdl:  # for the user's build: what to compile, and how to instantiate it
+            from ..base.version import __version__
+            from .build_files import file_list, instantiation
+
+            out[f"{n}.f"] = file_list([f"{n}.v"])
+            out[f"{n}_inst.v"] = instantiation(self.net, __version__)
         if "vhdl" in self.hdl:
             from .vhdl import vhdl_files
 
@@ -43,7 +49,10 @@ class Design:
         return out
 
     def summary(self, extra: dict | None = None) -> dict:
-        tb = {"testbench": {"vectors": self.testbench.count, "plan": self.plan}}
+        iface = self.net.iface
+        tb = {"ports": [{"name": p.name, "direction": p.direction, "width": p.width} for p in iface.pins],
+              "latency": iface.latency, "claim": iface.claim(),
+              "testbench": {"vectors": self.testbench.count, "plan": self.plan}}
         tb.update(extra or {})
         return design_summary(self.spec, self.metrics, tb, self.net.meta)
 
@@ -58,5 +67,11 @@ def design(spec: Spec, net: Network | None = None, tb_random: int = TB_RANDOM, s
     limit = min(tb_exhaustive_limit, tb_max_bytes // line_bytes(line_bits(iface)))
     plan = plan_for(iface, limit, tb_random, seed)
     tb = emit_testbench(spec.name, iface, plan, tb_max_bytes)
-    return Design(spec, net, m, emit_module(net, header_lines(spec, m, net.meta)), tb,
-                  plan.describe() + tb.pick.summary())
+    header = header_lines(spec, m, net.meta)
+    if spec.form == "parameterized":
+        from .param_verilog import emit_param
+
+        verilog = emit_param(spec, header)
+    else:
+        verilog = emit_module(net, header)
+    return Design(spec, net, m, verilog, tb, plan.describe() + tb.pick.summary())

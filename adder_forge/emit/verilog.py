@@ -102,17 +102,17 @@ def port_decls(net: Network) -> list[dict]:
 def emit_module(net: Network, header: list[str]) -> str:
     from .templating import render
 
-    wires, vectors = [], []
+    wires = []  # in node order, so that every net is declared before it is read (an ADD may read gates)
     uses = net.uses()
     carried = _read_carries(net, uses)
     unread = _unread_bits(net, uses)
     for i, n in enumerate(net.nodes):
         if n.op == "ADD":
             bits = add_width(len(n.args)) + (i in carried)
-            vectors.append({"name": n.name, "msb": bits - 1, "expr": _add_expr(net, i, bits),
-                            "unread": i in unread})
+            wires.append({"name": n.name, "range": f"[{bits - 1}:0] ", "expr": _add_expr(net, i, bits),
+                          "unread": i in unread})
         elif n.op not in ("INPUT", "CONST", "PICK"):
-            wires.append({"name": n.name, "expr": expression(net, i)})
+            wires.append({"name": n.name, "range": "", "expr": expression(net, i), "unread": False})
     outputs = [{"name": p.name, "expr": concat(net, list(reversed(p.bits)))} for p in net.outputs]
     return render("module.v.j2", header=header, name=net.name, ports=port_decls(net), wires=wires,
-                  vectors=vectors, outputs=outputs)
+                  outputs=outputs)
