@@ -77,6 +77,10 @@ def check(spec: Spec) -> None:
     if spec.scheme in BLOCK_SCHEMES and (isinstance(spec.opt("block"), bool) or not isinstance(spec.opt("block"), int)):
         raise spec.error("block", f"'form: {FORM}' needs a number of bits a block ('block: 4'), not "
                                   f"'{spec.opt('block') if isinstance(spec.opt('block'), str) else 'a list'}'")
+    if spec.operation != "add":
+        raise spec.error("operation", f"'form: {FORM}' adds only; 'operation: {spec.operation}' needs 'form: flat'")
+    if spec.overflow:
+        raise spec.error("overflow", f"'form: {FORM}' has no overflow output; use 'form: flat' for 'overflow: true'")
     if spec.scheme == "prefix":
         if spec.opt("prefix") not in PREFIX_NETWORKS:
             raise spec.error("prefix", f"'form: {FORM}' has no rule for 'prefix: {spec.opt('prefix')}' "

@@ -21,8 +21,10 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from ..ir.network import META_BLOCK_SIZES, META_NOTE
 from ..base.errors import NetworkError, SpecError
-from ..spec.registry import Option, choice_option, scheme, shown, type_name, value_text
+from ..spec.registry import (Description, Option, changed_keys, choice_option, label_of, scheme, schemes, shown,
+                             spec_keys, type_name, value_text)
 from . import network_file
 from .blocksizes import block_option, validate_block, resolve, block_bounds, wide_note
 from .prefix_networks import NETWORKS, build, final_refs, param_levels, prune, validate
@@ -91,12 +93,21 @@ def file_network(spec):
         if exc.message in ("no such file", "is a folder, not a network file", "is not a regular file"):
             raise spec.error("network", f"network file {shown(spec.opt('network'))}: {exc.message}") from None
         raise
-    n = spec.width + spec.carry_in
+    n = spec.width + spec.network_carry_in
     if graph.inputs != n:
-        context = f" (width {spec.width} plus the carry-in)" if spec.carry_in else f" (width {spec.width})"
+        context = _inputs(spec) or f" (width {spec.width})"
         raise spec.error("network", f"network file {shown(spec.opt('network'))} has {graph.inputs} inputs, but this adder "
                                     f"needs {n}{context}")
     return graph
+
+
+def _inputs(spec) -> str:
+    """What the prefix inputs are beyond the width, for messages ('' when there is no carry-in column)."""
+    if spec.carry_in:
+        return f" (width {spec.width} plus the carry-in)"
+    if spec.network_carry_in:
+        return f" (width {spec.width} plus the carry into the network, which '{spec.operation}' has)"
+    return ""
 
 
 def validate_prefix(spec) -> None:
@@ -118,8 +129,8 @@ def validate_prefix(spec) -> None:
             raise spec.error(key, f"'{key}' applies only to 'prefix: {owner}', not to 'prefix: {kind.name}'")
     if kind.param is None:
         return
-    n = spec.width + spec.carry_in
-    context = f" (width {spec.width} plus the carry-in)" if spec.carry_in else ""
+    n = spec.width + spec.network_carry_in
+    context = _inputs(spec)
     value = spec.opt(kind.param)
     if value is None:
         L = param_levels(n)
@@ -135,12 +146,12 @@ def validate_prefix(spec) -> None:
 def network_for(spec, full=None):
     """The spec's prefix graph (or ``full``, any legal network over width + carry_in inputs), pruned to the
     carries the sum stage and the carry out read."""
-    ci = int(spec.carry_in)
+    ci = int(spec.network_carry_in)
     if full is not None:
         validate(full)
         if full.inputs != spec.width + ci:
             raise NetworkError(f"{full.style}: {full.inputs} inputs, but a {spec.width}-bit adder "
-                               f"{'with' if ci else 'without'} carry-in needs {spec.width + ci}")
+                               f"{'with' if ci else 'without'} a carry into its network needs {spec.width + ci}")
     elif spec.opt("prefix") == FROM_FILE:
         full = file_network(spec)
     else:
@@ -148,7 +159,7 @@ def network_for(spec, full=None):
         full = build(kind.name, spec.width + ci, spec.opt(kind.param) if kind.param else None)
     block = spec.opt("block")
     sizes = resolve(block, spec.width)
-    bounds = [lo for lo, _ in block_bounds(sizes)[1:]] + ([spec.width] if spec.carry_out else [])
+    bounds = [lo for lo, _ in block_bounds(sizes)[1:]] + ([spec.width] if spec.network_carry_out else [])
     style = full.style
     if any(s > 1 for s in sizes):
         style += f", block {block if isinstance(block, int) else value_text(block)}"
@@ -157,7 +168,21 @@ def network_for(spec, full=None):
     return prune(full, [s - 1 + ci for s in bounds], style), sizes
 
 
-@scheme("prefix", options=OPTIONS, validate=validate_prefix,
+def describe_prefix(spec, resolved) -> Description:
+    """The network first, always (kogge-stone is a choice, not a detail), with its parameter list or file;
+    then the keys that differ from their default (block, ling)."""
+    sch = schemes()["prefix"]
+    net = spec.opt("prefix")
+    if net == FROM_FILE:
+        first = f"file {shown(spec.opt('network'))}"
+    else:
+        param = NETWORKS[net].param
+        first = net + (f" {value_text(spec.opt(param))}" if param and spec.opt(param) is not None else "")
+    rest = changed_keys(sch, spec, skip=("prefix", "network", "taxonomy", "fanouts"))
+    return Description(label_of("prefix", [first, *rest]), spec_keys(sch, spec, resolved))
+
+
+@scheme("prefix", options=OPTIONS, validate=validate_prefix, describe=describe_prefix,
         doc="parallel-prefix: Kogge-Stone, Brent-Kung, Sklansky, Han-Carlson, Ladner-Fischer, Knowles, the "
             "Harris (l, f, t) taxonomy, any network from a file; sparse trees with carry-select sums; Ling carries")
 def prefix_adder(spec):
@@ -169,12 +194,12 @@ def adder_with_network(spec, full=None):
     graph (a searched one, say) over width + carry_in inputs. Block and Ling keys apply as usual."""
     f = start(spec)
     b = f.build
-    ci = int(spec.carry_in)
+    ci = int(spec.network_carry_in)
     ling = spec.opt("ling")
     graph, sizes = network_for(spec, full)
     if any(s > 1 for s in sizes):
-        b.meta.append(("block_sizes", value_text(sizes)))
-    b.meta += [("note", n) for n in [wide_note(spec.opt("block"), spec.width)] if n]
+        b.meta.append((META_BLOCK_SIZES, value_text(sizes)))
+    b.meta += [(META_NOTE, n) for n in [wide_note(spec.opt("block"), spec.width)] if n]
     g, p = generate_propagate(f)
     gen = [f.cin] * ci + g
     t = None
@@ -213,5 +238,7 @@ def adder_with_network(spec, full=None):
             continue
         cond = conditional(b, f.a, f.b, g, p, lo, hi)
         sums += [select(b, cb, cond.s0[i - lo], cond.s1[i - lo], f"s{i}") for i in range(lo, hi)]
-    cout = carry_into(f.width) if spec.carry_out else b.const(0)
-    return finish(f, sums, cout, prefix=graph)
+    cout = carry_into(f.width) if spec.network_carry_out else b.const(0)
+    top = block_bounds(sizes)[-1]
+    carry_top = (f.cin if f.width == 1 else carry_into(f.width - 1)) if top[1] - top[0] == 1 else None
+    return finish(f, sums, cout, prefix=graph, carry_top=carry_top)
