@@ -176,7 +176,7 @@ def test_parse_reads_only_its_own_name():
     ("add4: 512 passed, 0 failed, 3 skipped\n", "no result"),
     ("add4: x passed, x failed\n", "malformed summary line: x passed, x failed"),  # an X count
     ("add4: -1 passed, 0 failed\n", "malformed summary line"),
-    ("add4: 512 passed, 0 failed\nadd4: 512 passed, 0 failed\n", "more than one summary line"),
+    ("add4: 512 passed, 0 failed\nadd4: 512 passed, 0 failed\n", "2 summary lines"),
     ("add4: VECTORS ERROR cannot open add4_vectors.hex\n", "no result (exit 1): add4: VECTORS ERROR cannot open"),
     ("add4: BAD LINE 7: not all 0/1 (X, U, Z or a non-hex digit)\nadd4: 511 passed, 1 failed\n", "BAD LINE 7"),
 ])
