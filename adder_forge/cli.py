@@ -75,7 +75,25 @@ def _parser() -> argparse.ArgumentParser:
     e.add_argument("--table-only", action="store_true", help="write results.csv and results.json only (no plots, no report)")
     e.add_argument("--force", action="store_true",
                    help="replace output files that adder_forge did not write or that were edited since")
+    _pick_parser(sub)
     return ap
+
+
+def _pick_parser(sub) -> None:
+    k = sub.add_parser("pick", help="the adder to use at one width under a delay limit, with the runners-up and why")
+    k.add_argument("--width", type=int, required=True, metavar="N")
+    k.add_argument("--target", required=True, metavar="FIGURE",
+                   help="the delay figure to constrain: unit_gate_delay, le_fo4, abc_depth, yosys_depth, lut6_depth, "
+                        "ice40_fmax_mhz (a minimum), ...")
+    k.add_argument("--max-delay", type=float, required=True, metavar="X",
+                   help="the limit on the target figure (for a frequency such as Fmax: the least acceptable)")
+    k.add_argument("--minimize", default="area", metavar="area|delay", help="what to minimise within the limit (default area)")
+    k.add_argument("--carry-in", action=argparse.BooleanOptionalAction, default=True, help="with a carry-in port (default yes)")
+    k.add_argument("--name", metavar="NAME", help="module name of the chosen adder (default pick_wN)")
+    k.add_argument("--out", default="out", metavar="DIR", help="the chosen spec and its build go into DIR/NAME/ (default out)")
+    _run_options(k)
+    k.add_argument("--force", action="store_true",
+                   help="replace output files that adder_forge did not write or that were edited since")
 
 
 def _run_options(p) -> None:
@@ -283,13 +301,10 @@ def cmd_dump(args) -> int:
 
 
 def cmd_schemes(args) -> int:
-    from .spec.registry import schemes
+    from .spec.registry import schemes, value_text
 
     def key(o) -> str:  # a default that picks something (prefix: kogge-stone) is shown, not implied
-        if o.default is None:
-            return o.key
-        d = str(o.default).lower() if isinstance(o.default, bool) else o.default
-        return f"{o.key} (default {d})"
+        return o.key if o.default is None else f"{o.key} (default {value_text(o.default)})"
 
     for s in schemes().values():
         keys = ", ".join(key(o) for o in s.options) or "-"
@@ -333,7 +348,29 @@ def cmd_explore(args) -> int:
     return EXIT_MISMATCH if any(t.startswith("FAIL") for _, t in bad) else EXIT_OK
 
 
-_COMMANDS = {"explore": cmd_explore, "build": cmd_build, "verify": cmd_verify, "report": cmd_report, "dump": cmd_dump, "schemes": cmd_schemes}
+def cmd_pick(args) -> int:
+    from .explore.job import run
+    from .explore.pick import candidates_sweep, check_args, choose, explain, write_choice
+
+    _check_run_options(args, "pick")
+    name = args.name or f"pick_w{args.width}"
+    target, area = check_args(args.width, args.target, args.max_delay, args.minimize, name)
+    sweep = candidates_sweep(args.width, target, args.carry_in, name)
+    out = run(sweep, args.cache, args.executor, args.jobs, args.scheduler, _progress())
+    picked = choose(out, target, area, args.max_delay, args.minimize)
+    print(f"pick: {len(sweep.points)} adders at {args.width} bits ({out.computed} tasks computed, "
+          f"{out.cached} from the cache)")
+    for line in explain(picked):
+        print(line)
+    if picked.winner is None:
+        return EXIT_MISMATCH
+    written, d = write_choice(picked, name, args.out, force=args.force)
+    print(f"{name}: spec {name}.yaml and its build -> {written.path}/"
+          + "".join(f"; {n}" for n in written.notes))
+    return EXIT_OK
+
+
+_COMMANDS = {"explore": cmd_explore, "pick": cmd_pick, "build": cmd_build, "verify": cmd_verify, "report": cmd_report, "dump": cmd_dump, "schemes": cmd_schemes}
 
 
 if __name__ == "__main__":

@@ -13,7 +13,7 @@ import numpy as np
 import pytest
 
 from adder_forge.schemes.blocksizes import resolve, skip_auto, skip_delay
-from adder_forge.ir.cells import levels_of
+from adder_forge.ir.cells import cell_levels
 from adder_forge.checks.evaluate import Evaluator
 from adder_forge.ir.network import Port
 from adder_forge.analysis.structure import gate_levels, metrics
@@ -33,7 +33,7 @@ OPS = {
 }
 
 
-def settle_times(net, before, after, weight=levels_of):
+def settle_times(net, before, after, weight=cell_levels):
     """Last output change time of each transition; ``before``/``after`` map port -> list of ints.
     ``weight(op, nargs)`` is each cell's transport delay (cells.py's levels unless given)."""
     rows = structural_delay(net, weight) + 2  # row 0: the steady state before; row r: time r - 1

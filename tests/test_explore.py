@@ -15,6 +15,7 @@ import signal
 import subprocess
 import sys
 import time
+from dataclasses import replace
 from pathlib import Path
 
 import pytest
@@ -390,3 +391,105 @@ def test_report_is_one_self_contained_file_with_table_plots_front_and_specs(tmp_
     for p in done.outcome.sweep.points:
         assert f"<summary>{p.spec.name} (" in html
     assert "not sign-off timing" in html
+
+
+# -- pick -----------------------------------------------------------------------------------------------------
+def _pick(tmp_path, width, target, limit, minimize="area"):
+    from adder_forge.explore.figures import delay_figures
+    from adder_forge.explore.pick import candidates_sweep, choose
+
+    sw = candidates_sweep(width, target, False, f"pick_w{width}")
+    out = run(sw, tmp_path / "cache", jobs=1)
+    return choose(out, target, delay_figures()[target], limit, minimize), out
+
+
+@pytest.mark.parametrize("target, limit, minimize", [
+    ("unit_gate_delay", 14, "area"), ("unit_gate_delay", 30, "area"), ("le_fo4", 9.0, "area"),
+    ("unit_gate_delay", 100, "delay"), ("le_fo4", 100.0, "area"),
+])
+def test_pick_is_the_best_within_the_limit_and_on_the_front(tmp_path, target, limit, minimize):
+    from adder_forge.explore.figures import delay_figures
+
+    picked, out = _pick(tmp_path, 16, target, limit, minimize)
+    area = delay_figures()[target]
+    table = figure_table(out)
+    ok = [p for p in out.sweep.points if table[p.spec.name][target] is not None
+          and table[p.spec.name][target] <= limit and out.entries[(p.spec.name, CHECK)]["result"]["ok"]]
+    assert picked.winner is not None and ok
+    w = picked.winner.point.spec.name
+    a = {p.spec.name: (table[p.spec.name][area], table[p.spec.name][target]) for p in ok}
+    best = min(a.values()) if minimize == "area" else min((d, x) for x, d in a.values())[::-1]
+    assert a[w] == best  # brute force over the candidates
+    # on the Pareto front of the same adders (area against the target figure)
+    pts = [(p.spec.name, table[p.spec.name][area], table[p.spec.name][target]) for p in out.sweep.points
+           if table[p.spec.name][target] is not None]
+    assert w in front(pts)
+    assert picked.plus is None  # `+` has no estimate: the output says so
+    from adder_forge.explore.pick import explain
+
+    assert any("+: no" in line for line in explain(picked))
+
+
+def test_pick_prefers_plus_on_a_tie_and_never_returns_worse_than_plus(tmp_path):
+    """The rule, on the figures of a real run: give `+` the winner's figures and `+` must win; make it a
+    little worse and the generated adder must win; `+` better, `+` must win."""
+    from adder_forge.explore.pick import choose
+
+    picked, out = _pick(tmp_path, 16, "unit_gate_delay", 14)
+    w = picked.winner.point
+    plus = next(p for p in out.sweep.points if p.baseline)
+    for bump, plus_should_win in ((0, True), (1, False), (-1, True)):
+        recs = [dict(r) for r in out.entries[(w.spec.name, "estimates")]["records"]]
+        for r in recs:
+            if r["figure"] == "unit_gate_area":
+                r["value"] += bump
+        entries = dict(out.entries)
+        entries[(plus.spec.name, "estimates")] = {**out.entries[(w.spec.name, "estimates")], "records": recs}
+        again = choose(replace(out, entries=entries), "unit_gate_delay", "unit_gate_area", 14, "area")
+        assert again.plus_wins is plus_should_win, bump
+        from adder_forge.explore.pick import explain
+
+        text = "\n".join(explain(again))
+        assert text.startswith("use Verilog's +") is plus_should_win, text
+
+
+@pytest.mark.slow
+def test_pick_command_writes_the_spec_and_its_build_and_exit_1_when_nothing_fits(tmp_path):
+    base = [*CLI, "pick", "--width", "12", "--target", "unit_gate_delay", "--no-carry-in", "--cache",
+            str(tmp_path / "c"), "--out", str(tmp_path / "o"), "--jobs", "1"]
+    r = subprocess.run([*base, "--max-delay", "16", "--name", "acc12"], capture_output=True, text=True)
+    assert r.returncode == 0, r.stderr
+    assert r.stdout.splitlines()[1].startswith("use ") and "runners-up" in r.stdout
+    spec = af.load_spec(tmp_path / "o" / "acc12" / "acc12.yaml")  # the chosen spec loads back as it is
+    assert spec.name == "acc12" and spec.width == 12 and spec.carry_in is False
+    assert (tmp_path / "o" / "acc12" / "acc12.v").is_file() and (tmp_path / "o" / "acc12" / "acc12_tb.v").is_file()
+    assert af.check(af.elaborate(spec), af.builtin_plan(spec, 100, 1)).ok
+    r = subprocess.run([*base, "--max-delay", "2"], capture_output=True, text=True)
+    assert r.returncode == 1 and "no adder meets unit_gate_delay <= 2" in r.stdout
+    assert r.stdout.count("\n  ") == 3  # the three closest
+    assert "from the cache" in r.stdout and not (tmp_path / "o" / "pick_w12").exists()
+    r = subprocess.run([*base, "--max-delay", "2", "--target", "lut6_dept"], capture_output=True, text=True)
+    assert r.returncode == 2 and "did you mean 'lut6_depth'" in r.stderr and r.stderr.count("\n") == 1
+
+
+# -- Dask -------------------------------------------------------------------------------------------------------
+@pytest.mark.slow
+def test_a_dask_cluster_gives_the_same_results_as_local_cores(tmp_path):
+    distributed = pytest.importorskip("distributed")
+    sw = load_sweep(_tiny(tmp_path))
+    local = run(sw, tmp_path / "c1", jobs=1)
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None,
+                                  silence_logs=40) as cluster:
+        far = run(sw, tmp_path / "c2", executor="dask", scheduler=cluster.scheduler_address)
+        assert far.computed == local.computed == 16
+        assert to_json(far) == to_json(local) and to_csv(far) == to_csv(local)
+        # the entries came back to this process and are in its cache: a second run computes nothing
+        again = run(sw, tmp_path / "c2", executor="dask", scheduler=cluster.scheduler_address)
+        assert again.computed == 0 and to_json(again) == to_json(local)
+    assert len(cache_mod.Cache(tmp_path / "c2").entries()) == 16
+
+
+@pytest.mark.slow
+def test_dask_needs_a_scheduler_and_says_so(tmp_path):
+    r = subprocess.run([*CLI, "explore", str(_tiny(tmp_path)), "--executor", "dask"], capture_output=True, text=True)
+    assert r.returncode == 2 and "--scheduler" in r.stderr and r.stderr.count("\n") == 1

@@ -71,9 +71,9 @@ def test_build_line_plurals(tmp_path, capsys):
 
 
 @pytest.mark.parametrize("extra,words", [
-    ("scheme: prefix\nprefix: harris\ntaxonomy: [1, 1, 2]\n", ["prefix=harris", "taxonomy=[1,1,2]"]),
+    ("scheme: prefix\nprefix: harris\ntaxonomy: [1, 1, 2]\n", ["prefix=harris", "taxonomy=[1, 1, 2]"]),
     ("scheme: prefix\ncarry_in: false\nprefix: knowles\nfanouts: [4, 2, 1, 1]\n",
-     ["prefix=knowles", "fanouts=[4,2,1,1]", "carry_in=false"]),
+     ["prefix=knowles", "fanouts=[4, 2, 1, 1]", "carry_in=false"]),
     ("scheme: block-lookahead\nblock: 2\ngroup: 3\nling: true\n", ["block=2", "group=3", "ling=true"]),
     ("scheme: carry-skip\ncarry_out: false\n", ["block=auto ([", "carry_out=false", "skip-aware"]),
 ])

@@ -6,7 +6,7 @@ import random
 
 import pytest
 
-from adder_forge.analysis.prefix_eval import check as prefix_check, depth, spans, stimulus
+from adder_forge.analysis.prefix_eval import check_graph as prefix_check, longest_chain, value_spans, stimulus
 from adder_forge.analysis.prefix_figures import prefix_figures, sergeev_minimum
 from adder_forge.base.errors import NetworkError, SpecError
 from adder_forge.checks.builtin import check
@@ -65,7 +65,7 @@ def test_any_legal_rows_make_an_adder_that_adds():
                 low[c] = min(low0[c], low0[d])
             rows.append(row)
         g = validate(from_rows(n, rows, f"random{trial}"))
-        assert [s[1] for s in spans(g)] == [c.low for c in g.cells]
+        assert [s[1] for s in value_spans(g)] == [c.low for c in g.cells]
         st = stimulus(n, False, [(rng.getrandbits(n), rng.getrandbits(n), 0) for _ in range(300)])
         assert prefix_check(g, st).ok
         for carry_in in (False, True):
@@ -177,10 +177,10 @@ def test_snir_gap_is_never_negative_and_the_minimum_gap_never_either(n):
     """Snir 1986 ("Depth-size trade-offs for parallel prefix computation"): cells + depth >= 2n - 2."""
     for name, g in classic(n):
         f = prefix_figures(g)
-        assert f["prefix_depth"] == depth(g)
-        assert f["prefix_snir_gap"] == len(g.cells) + depth(g) - (2 * n - 2) >= 0, name
+        assert f["prefix_depth"] == longest_chain(g)
+        assert f["prefix_snir_gap"] == len(g.cells) + longest_chain(g) - (2 * n - 2) >= 0, name
         if f["prefix_min_gap"] is not None:
-            assert f["prefix_min_gap"] >= 0 and n & (n - 1) == 0 and depth(g) == (n - 1).bit_length()
+            assert f["prefix_min_gap"] >= 0 and n & (n - 1) == 0 and longest_chain(g) == (n - 1).bit_length()
 
 
 def test_bounds_in_build_line_header_and_json(tmp_path, capsys):

@@ -10,9 +10,9 @@ from adder_forge.ir.network import check_well_formed, dump
 from adder_forge.analysis.structure import metrics
 from adder_forge.ir.passes import break_gate, gate_indices
 from adder_forge.analysis.prefix_eval import complete_columns
-from adder_forge.schemes.prefix_networks import NETWORKS, build, levels_of
+from adder_forge.schemes.prefix_networks import NETWORKS, build, ceil_log2
 from adder_forge.schemes import elaborate
-from adder_forge.emit.summary import report
+from adder_forge.emit.summary import design_summary
 from adder_forge.spec.loader import make_spec, parse_spec
 from adder_forge.emit.vectors import make_plan, space_bits
 from conftest import golden
@@ -83,12 +83,12 @@ def test_report_reproduces_the_classic_networks_table(n):
     tracks: Harris 2003, "A taxonomy of parallel prefix networks", Asilomar. Cells: derived by construction
     from Kogge and Stone 1973, Brent and Kung 1982, Sklansky 1960, Han and Carlson 1987 (Harris's table
     does not give them)."""
-    L = levels_of(n)
+    L = ceil_log2(n)
     table = {"brent-kung": (2 * n - 2 - L, 2 * L - 1, 2, 1), "sklansky": (n // 2 * L, L, n // 2 + 1, 1),
              "kogge-stone": (n * L - n + 1, L, 2, n // 2), "han-carlson": (n // 2 * L, L + 1, 2, n // 4)}
     for network, want in table.items():
         spec = make_spec("t", n, "prefix", carry_in=False, prefix=network)
-        m = report(spec, metrics(elaborate(spec)))["metrics"]
+        m = design_summary(spec, metrics(elaborate(spec)))["metrics"]
         assert (m["prefix_nodes"], m["prefix_levels"], m["prefix_fanout"], m["wire_tracks"]) == want, network
         assert m["prefix_gray"] == n - 1 and m["prefix_black"] == want[0] - (n - 1)
     kn = metrics(adder("k", n, carry_in=False, prefix="knowles", fanouts=[2] + [1] * (L - 1)))

@@ -15,10 +15,10 @@ import random
 
 import pytest
 
-from adder_forge.analysis.prefix_eval import PrefixError, check, complete_columns, depth, spans, stimulus
+from adder_forge.analysis.prefix_eval import PrefixError, check_graph, complete_columns, longest_chain, value_spans, stimulus
 from adder_forge.analysis.prefix_figures import prefix_figures
-from adder_forge.schemes.prefix_networks import (NETWORKS, NetworkError, build, check_fanouts, check_taxonomy, final_refs,
-                                         from_rows, levels_of, param_levels, prune)
+from adder_forge.schemes.prefix_networks import (NETWORKS, NetworkError, build, validate_fanouts, validate_taxonomy, final_refs,
+                                         from_rows, ceil_log2, param_levels, prune)
 from adder_forge.emit.vectors import directed, exhaustive_chunks
 
 
@@ -77,7 +77,7 @@ def figures(graph):
 @pytest.mark.parametrize("n", [8, 16, 32, 64, 128])
 @pytest.mark.parametrize("name", sorted(TABLE))
 def test_classic_networks_table(name, n):
-    L = levels_of(n)
+    L = ceil_log2(n)
     assert figures(build(name, n)) == TABLE[name](n, L)
 
 
@@ -86,7 +86,7 @@ def test_brent_kung_rows_and_chain(n):
     """Harris 2003 counts Brent-Kung's rows, 2L - 1; its longest chain of cells is one shorter, 2L - 2,
     because the first cell back down reads values ready a row earlier (derived from the construction)."""
     g = build("brent-kung", n)
-    assert prefix_figures(g)["prefix_levels"] == 2 * levels_of(n) - 1 and depth(g) == 2 * levels_of(n) - 2
+    assert prefix_figures(g)["prefix_levels"] == 2 * ceil_log2(n) - 1 and longest_chain(g) == 2 * ceil_log2(n) - 2
 
 
 def test_classic_cell_counts_at_16_and_64():
@@ -99,7 +99,7 @@ def test_classic_cell_counts_at_16_and_64():
 @pytest.mark.parametrize("n", [8, 16, 32, 64, 128])
 def test_taxonomy_levels_fanout_tracks(n):
     """Harris 2003: (l, f, t) with l + f + t = L - 1 has L + l levels, fanout 2^f + 1 and 2^t tracks."""
-    L = levels_of(n)
+    L = ceil_log2(n)
     for l, f, t in triples(n):
         g = build("harris", n, (l, f, t))
         assert figures(g)[1:] == (L + l, 2 ** f + 1, 2 ** t), (l, f, t)
@@ -109,7 +109,7 @@ def test_taxonomy_levels_fanout_tracks(n):
 def test_taxonomy_named_points(n):
     """Harris 2003 places Brent-Kung, Sklansky, Kogge-Stone, Han-Carlson, Ladner-Fischer and Knowles
     [2,1,...,1] at (L-1,0,0), (0,L-1,0), (0,0,L-1), (1,0,L-2), (1,L-2,0), (0,1,L-2)."""
-    L = levels_of(n)
+    L = ceil_log2(n)
     at = {"brent-kung": (L - 1, 0, 0), "sklansky": (0, L - 1, 0), "kogge-stone": (0, 0, L - 1),
           "han-carlson": (1, 0, L - 2), "ladner-fischer": (1, L - 2, 0)}
     for name, point in at.items():
@@ -146,7 +146,7 @@ def test_ladner_fischer_p0_size_and_depth(k):
     n = 1 << k
     g = build("ladner-fischer-p0", n)
     assert len(g.cells) == 4 * n + 1 - fib(k + 5)
-    assert depth(g) == prefix_figures(g)["prefix_levels"] == k
+    assert longest_chain(g) == prefix_figures(g)["prefix_levels"] == k
     if k in (4, 5, 6):
         assert len(g.cells) == {4: 31, 5: 74, 6: 168}[k]
 
@@ -161,20 +161,20 @@ def test_no_depth_log_n_network_beats_sergeev_minimum(k):
         assert bound == {4: 31, 5: 74, 6: 167}[k]
     seen = 0
     for name, value, g in every_network(n):
-        if depth(g) == k:
+        if longest_chain(g) == k:
             assert len(g.cells) >= bound, (name, value)
             seen += 1
     for t in triples(n):
         g = build("harris", n, t)
-        if depth(g) == k:
+        if longest_chain(g) == k:
             assert len(g.cells) >= bound, t
     assert seen >= 4  # Kogge-Stone, Sklansky, Ladner-Fischer P_0, Knowles
 
 
 def assert_snir(g, n, what):
     """Snir 1986: cells + depth >= 2n - 2 for any prefix circuit on n inputs; rows are at least the depth."""
-    assert len(g.cells) + depth(g) >= 2 * n - 2, what
-    assert prefix_figures(g)["prefix_levels"] >= depth(g), what
+    assert len(g.cells) + longest_chain(g) >= 2 * n - 2, what
+    assert prefix_figures(g)["prefix_levels"] >= longest_chain(g), what
 
 
 @pytest.mark.parametrize("n", [2, 13, 16, 33, 64, 100, 129])
@@ -199,7 +199,7 @@ def test_knowles_rule_is_exactly_the_valid_lists(n):
     for per_level in itertools.product(*[[1 << e for e in range(k + 1)] for k in range(L)]):
         value = tuple(reversed(per_level))
         try:
-            check_fanouts(n, value)
+            validate_fanouts(n, value)
             ok = True
         except NetworkError:
             ok = False
@@ -257,12 +257,12 @@ def test_pruning_keeps_only_what_the_outputs_read():
     assert all(sparse.cells[last[c]].gray for c in (3, 7, 11, 15, 19, 23, 27, 31))
     # the top column alone needs a binary tree over 32 inputs: 31 cells, 5 levels, no column 0 output cell
     top = prune(g, [31])
-    assert len(top.cells) == 31 and depth(top) == 5 and len(prune(g, [0]).cells) == 0
+    assert len(top.cells) == 31 and longest_chain(top) == 5 and len(prune(g, [0]).cells) == 0
 
 
 def test_lazy_construction_turns_full_knowles_into_sklansky():
     for n in (8, 16, 32, 13, 33):
-        L = levels_of(n)
+        L = ceil_log2(n)
         per_level = [1 << k for k in range(L)]
         rows = [[(i, (i | (per_level[k] - 1)) - (1 << k)) for i in range(1 << k, n)] for k in range(L)]
         assert from_rows(n, rows, "x", lazy=True).cells == build("sklansky", n).cells
@@ -296,11 +296,11 @@ def test_every_network_at_every_width_1_to_70_on_the_prefix_level():
             vs = vectors_for(width, carry_in, rng)
             stims = [stimulus(width, carry_in, vs, ling=ling) for ling in (False, True)]
             for name, value, g in every_network(n):
-                spans(g)
+                value_spans(g)
                 assert complete_columns(g) == list(range(n)), (name, value)
                 assert_snir(g, n, (name, value))
                 for st in stims:
-                    r = check(g, st)
+                    r = check_graph(g, st)
                     assert r.ok, (width, carry_in, name, value, st.ling, r.bad_columns)
 
 
@@ -310,37 +310,37 @@ def test_prefix_evaluator_catches_wrong_networks():
     g = build("sklansky", 8)
     rng = random.Random(1)
     st = stimulus(8, False, vectors_for(8, False, rng))
-    assert check(g, st).ok
+    assert check_graph(g, st).ok
     # a cell that records the wrong span
     bad = replace(g, cells=tuple(replace(c, low=c.low + 1) if k == 3 else c for k, c in enumerate(g.cells)))
     with pytest.raises(PrefixError):
-        spans(bad)
+        value_spans(bad)
     # a cell fed from the wrong column: the numbers disagree with a + b
     k = next(k for k, c in enumerate(g.cells) if c.lo < 0 and c.col >= 2)
     c = g.cells[k]
     wrong = replace(g, cells=g.cells[:k] + (replace(c, lo=c.lo + 1),) + g.cells[k + 1:])
-    assert not check(wrong, st).ok
+    assert not check_graph(wrong, st).ok
     # a gray cell whose propagate a black cell reads
     k = next(k for k, c in enumerate(g.cells) if not c.gray and c.lo >= 0)
     graylo = replace(g, cells=tuple(replace(c, gray=True) if j == g.cells[k].lo else c for j, c in enumerate(g.cells)))
     with pytest.raises(PrefixError):
-        check(graylo, st)
+        check_graph(graylo, st)
 
 
 # -- parameter errors (the spec-level messages are in test_prefix_adders.py) ------------------------------------
 def test_parameter_errors_say_what_fits():
     with pytest.raises(NetworkError, match=r"adds up to 2, but 16 prefix inputs need l \+ f \+ t = 3"):
-        check_taxonomy(16, (1, 1, 0))
+        validate_taxonomy(16, (1, 1, 0))
     with pytest.raises(NetworkError, match=r"has 3 entries, but 16 prefix inputs need 4"):
-        check_fanouts(16, (2, 1, 1))
+        validate_fanouts(16, (2, 1, 1))
     with pytest.raises(NetworkError, match=r"powers of two"):
-        check_fanouts(16, (3, 1, 1, 1))
+        validate_fanouts(16, (3, 1, 1, 1))
     with pytest.raises(NetworkError, match=r"level 3's fanout 1 is less than level 2's \(2\)"):
-        check_fanouts(16, (1, 1, 2, 1))
+        validate_fanouts(16, (1, 1, 2, 1))
     with pytest.raises(NetworkError, match=r"level 1's fanout 2 is more than 1"):
-        check_fanouts(16, (2, 2, 2, 2))
+        validate_fanouts(16, (2, 2, 2, 2))
     with pytest.raises(NetworkError, match=r"level 4's fanout 16 is more than 8"):
-        check_fanouts(16, (16, 4, 2, 1))
-    check_fanouts(16, (4, 1, 1, 1))
-    check_taxonomy(1, (0, 0, 0))  # one input: no cells, the 2-input parameters
+        validate_fanouts(16, (16, 4, 2, 1))
+    validate_fanouts(16, (4, 1, 1, 1))
+    validate_taxonomy(1, (0, 0, 0))  # one input: no cells, the 2-input parameters
     assert len(build("harris", 1, (0, 0, 0)).cells) == len(build("knowles", 1, (1,)).cells) == 0

@@ -1,12 +1,12 @@
 """A prefix network checked on its own, without the gates around it.
 
 Two checks, both independent of how the network was built:
-- ``spans`` evaluates the graph symbolically: every value is the span of columns it covers. A cell must
+- ``value_spans`` evaluates the graph symbolically: every value is the span of columns it covers. A cell must
   combine a value of its own column with one that reaches its gap (the carry operator is associative,
   Brent and Kung 1982, and idempotent, common practice, so adjacent or overlapping spans give the union),
   and must cover exactly the span it records. A column whose span reaches 0 then holds G[i:0] for every
   input, so this check is exhaustive over the input space.
-- ``check`` evaluates the graph bit-parallel (one Python integer per signal, one bit per vector) on
+- ``check_graph`` evaluates the graph bit-parallel (one Python integer per signal, one bit per vector) on
   generate/propagate vectors derived from operands and compares each output column with the carries of
   the add interface's reference (Python integer addition, ``ir.interface``). It also catches a gray cell
   whose propagate some cell reads.
@@ -27,7 +27,7 @@ class PrefixError(AssertionError):
     """The graph is not a valid prefix network."""
 
 
-def spans(graph: PrefixGraph) -> list[tuple[int, int]]:
+def value_spans(graph: PrefixGraph) -> list[tuple[int, int]]:
     """(top, bottom) column of every cell's value; raises PrefixError on any inconsistency."""
     out: list[tuple[int, int]] = []
 
@@ -56,7 +56,7 @@ def spans(graph: PrefixGraph) -> list[tuple[int, int]]:
     return out
 
 
-def depth(graph: PrefixGraph) -> int:
+def longest_chain(graph: PrefixGraph) -> int:
     """The longest chain of cells (the logical depth; rows can be more, as in Brent-Kung)."""
     d: list[int] = []
     for c in graph.cells:
@@ -66,7 +66,7 @@ def depth(graph: PrefixGraph) -> int:
 
 def complete_columns(graph: PrefixGraph) -> list[int]:
     """Columns whose last value is G[i:0]."""
-    sp = spans(graph)
+    sp = value_spans(graph)
     return [c for c, r in enumerate(final_refs(graph)) if (sp[r][1] if r >= 0 else c) == 0]
 
 
@@ -148,7 +148,7 @@ def stimulus(width: int, carry_in: bool, vectors, *, ling: bool = False) -> Stim
     return Stimulus(width, carry_in, ling, v, g, prop, want)
 
 
-def check(graph: PrefixGraph, stim: Stimulus, outputs=None) -> PrefixCheck:
+def check_graph(graph: PrefixGraph, stim: Stimulus, outputs=None) -> PrefixCheck:
     """Evaluate ``graph`` as the carry network the stimulus is for and compare every output column (all
     columns unless ``outputs`` is given) with the expected values."""
     assert len(stim.gen) == graph.inputs, (len(stim.gen), graph.inputs)

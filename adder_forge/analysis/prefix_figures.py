@@ -7,7 +7,7 @@ Harris 2003 ("A taxonomy of parallel prefix networks", Asilomar) measures them, 
 - ``prefix_levels``: rows of cells in the drawn network (the level each cell is placed at). A cell may sit
   lower than its inputs force: Brent-Kung's first cell back down the tree reads values ready a row before,
   but moving it up would give its driver two lateral loads on one row. So this is Harris's count, 2L - 1
-  for Brent-Kung; ``prefix_eval.depth`` gives the longest chain of cells instead.
+  for Brent-Kung; ``prefix_eval.longest_chain`` gives the longest chain of cells instead.
 - ``prefix_fanout``: per level, the number of cells one value drives laterally at that level, plus one
   for its own column (the cell or output below it); the largest over all values and levels. A value read
   on several rows counts once per row, as a buffered column does in the drawing: Brent-Kung's G[7:0]
@@ -15,7 +15,7 @@ Harris 2003 ("A taxonomy of parallel prefix networks", Asilomar) measures them, 
 - ``wire_tracks``: per level, a value driving cells in other columns runs one horizontal wire from its
   column to the farthest of them, tapped on the way (a shared Sklansky wire is one track); tracks are the
   most such wires crossing one boundary between adjacent columns at one level. 0 without lateral wires.
-- ``prefix_depth``: the longest chain of cells (``prefix_eval.depth``), the depth the bounds below use.
+- ``prefix_depth``: the longest chain of cells (``prefix_eval.longest_chain``), the depth the bounds below use.
 - ``prefix_snir_gap``: cells + depth - (2m - 2) for a network computing all m prefixes of its columns:
   Snir's bound says it is never negative (Snir 1986, "Depth-size trade-offs for parallel prefix
   computation", J. Algorithms), and zero-deficiency networks reach 0 (Zhu, Cheng and Graham 2006). m is
@@ -32,7 +32,7 @@ from __future__ import annotations
 from collections import defaultdict
 
 from ..ir.network import PrefixGraph
-from .prefix_eval import depth as chain_depth
+from .prefix_eval import longest_chain as chain_depth
 
 
 def _col(graph: PrefixGraph, r: int) -> int:

@@ -8,7 +8,7 @@ input. It is a pure function of the IR: the multiplexer's role is the only extra
 
 from __future__ import annotations
 
-from ..ir.cells import levels_of
+from ..ir.cells import cell_levels
 from ..ir.network import Network
 from .arrival import SKIP, arrival, is_skip, output_bits
 
@@ -19,13 +19,13 @@ def has_skip(net: Network) -> bool:
     return any(is_skip(n) for n in net.nodes)
 
 
-def sensitizable_depth(net: Network, weight=levels_of) -> list[int | None]:
+def sensitizable_depth(net: Network, weight=cell_levels) -> list[int | None]:
     """Skip-aware arrival of every node (None: cannot change, e.g. a constant). ``weight(op, nargs)`` is
     a cell's delay: cells.py's levels by default, or another unit model (delay.py's unit-gate delays)."""
     return list(arrival(net, lambda i, n: weight(n.op, len(n.args)), skip_aware=True).times)
 
 
-def sensitizable_levels(net: Network, weight=levels_of) -> int | None:
+def sensitizable_levels(net: Network, weight=cell_levels) -> int | None:
     """Longest sensitizable output arrival, or None when the network has no bypass (then there is nothing
     to add to ``gate_levels``)."""
     if not has_skip(net):

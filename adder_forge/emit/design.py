@@ -7,7 +7,7 @@ from dataclasses import dataclass
 from ..ir.network import Network
 from ..analysis.structure import metrics
 from ..schemes import elaborate
-from .summary import header_lines, report, to_json
+from .summary import header_lines, design_summary, to_json
 from ..spec.loader import Spec
 from .testbench import Testbench, emit_testbench, line_bits, line_bytes
 from .verilog import emit_module
@@ -39,13 +39,13 @@ class Design:
 
             out.update(vhdl_files(self))
         out[f"{n}_vectors.hex"] = self.testbench.vectors_hex
-        out[f"{n}.json"] = to_json(self.report())
+        out[f"{n}.json"] = to_json(self.summary())
         return out
 
-    def report(self, extra: dict | None = None) -> dict:
+    def summary(self, extra: dict | None = None) -> dict:
         tb = {"testbench": {"vectors": self.testbench.count, "plan": self.plan}}
         tb.update(extra or {})
-        return report(self.spec, self.metrics, tb, self.net.meta)
+        return design_summary(self.spec, self.metrics, tb, self.net.meta)
 
 
 def design(spec: Spec, net: Network | None = None, tb_random: int = TB_RANDOM, seed: int = 1,
@@ -58,5 +58,11 @@ def design(spec: Spec, net: Network | None = None, tb_random: int = TB_RANDOM, s
     limit = min(tb_exhaustive_limit, tb_max_bytes // line_bytes(line_bits(iface)))
     plan = plan_for(iface, limit, tb_random, seed)
     tb = emit_testbench(spec.name, iface, plan, tb_max_bytes)
-    return Design(spec, net, m, emit_module(net, header_lines(spec, m, net.meta)), tb,
-                  plan.describe() + tb.pick.summary())
+    header = header_lines(spec, m, net.meta)
+    if spec.form == "parameterized":
+        from .param_verilog import emit_param
+
+        verilog = emit_param(spec, header)
+    else:
+        verilog = emit_module(net, header)
+    return Design(spec, net, m, verilog, tb, plan.describe() + tb.pick.summary())

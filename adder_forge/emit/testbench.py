@@ -206,8 +206,12 @@ def port_fields(iface) -> tuple[list[dict], list[dict]]:
     return fields(iface.inputs, iface.offsets(iface.inputs)), fields(iface.outputs, iface.offsets(iface.outputs))
 
 
-def emit_testbench(name: str, iface, plan: Plan, max_bytes: int, vectors_file: str | None = None) -> Testbench:
-    """The testbench text and its (lazily made) vectors; ``vectors_file`` is the default file it reads."""
+def emit_testbench(name: str, iface, plan: Plan, max_bytes: int, vectors_file: str | None = None,
+                   dut: str | None = None, width_param: bool = False) -> Testbench:
+    """The testbench text and its (lazily made) vectors; ``vectors_file`` is the default file it reads.
+
+    ``dut`` names the module under test when it is not ``name`` (a width-parameterized module checked at
+    many widths, one testbench a width); ``width_param`` instantiates it with ``#(.WIDTH(iface.width))``."""
     from .templating import render
 
     pick = Sample.of(plan, max_bytes, line_bits(iface))
@@ -217,5 +221,6 @@ def emit_testbench(name: str, iface, plan: Plan, max_bytes: int, vectors_file: s
                   in_bits=iface.in_bits, out_bits=iface.out_bits, plan=plan.describe(), version=__version__,
                   vectors_file=vectors_file, selection=pick.describe(), claim=iface.claim(),
                   cap=f"{max_bytes / 2**20:g} MiB", line_bytes=pick.line_bytes, step=STEP,
-                  cap_vectors=pick.budget)
+                  cap_vectors=pick.budget, dut_module=dut or name,
+                  dut_params=f" #(.WIDTH({iface.width}))" if width_param else "")
     return Testbench(text, pick.count, plan, iface, pick, vectors_file)

@@ -17,7 +17,8 @@ A list value expands: one variant per entry, and several lists in one variant ex
 A key whose value is itself a list (a list of block sizes, a Harris [l, f, t]) is given nested, as a list
 of one list: ``block: [[4, 4, 8]]``. ``all`` stands for every value of a key with a fixed set of values
 (``prefix: all``), and ``variants: all`` (or ``scheme: all`` alone in a variant) for every registered
-scheme with every such value: new schemes and networks appear without a change here. What ``all`` brings
+scheme with every value of the first such key it declares (the prefix network, say), its other keys at
+their defaults: new schemes and networks appear without a change here. What ``all`` brings
 in that cannot be built without more keys (a Harris network needs its [l, f, t]) is listed as skipped,
 never silently dropped; so is a width beyond a scheme's limit. The `+` baseline (scheme ``behavioral``) is
 always swept at every width.
@@ -258,14 +259,17 @@ def _values(loc: _Loc, key: str, node) -> list[tuple[Any, Any]]:
 
 
 def _every(node) -> list[_Variant]:
-    """Every registered scheme but the baseline, each key with a fixed set of values taking each in turn."""
+    """Every registered scheme but the baseline, taking in turn each value of the first key it declares with
+    a fixed set of values (prefix: the network; chain-select: the join); its other keys keep their defaults
+    (an FPGA target is a device to choose, not an adder to compare: `target: all` in a variant sweeps it)."""
     out = []
     for sc in schemes().values():
         if sc.name == BASELINE:
             continue
-        axes = [[(o.key, c, node, node) for c in o.choices] for o in sc.options if o.choices]
-        for combo in itertools.product(*axes):
-            out.append(_Variant(sc.name, tuple(combo), node, every=True))
+        first = next((o for o in sc.options if o.choices), None)
+        for c in first.choices if first else [None]:
+            keys = ((first.key, c, node, node),) if first else ()
+            out.append(_Variant(sc.name, keys, node, every=True))
     return out
 
 

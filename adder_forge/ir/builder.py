@@ -11,9 +11,8 @@ import re
 
 from .interface import ROLES, Interface, of_ports
 from .network import Network, Node, Port, PrefixGraph
-from ..base.keywords import RESERVED
+from ..base.keywords import IDENT, RESERVED
 
-_IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
 _RESERVED = set(ROLES) | RESERVED  # port names, so that no wire takes one
 
 
@@ -187,7 +186,7 @@ class Builder:
 
 def _unique(name: str, used: set[str]) -> str:
     base = re.sub(r"[^A-Za-z0-9_]", "_", name)
-    if not _IDENT.match(base):
+    if not IDENT.match(base):
         base = "n_" + base
     cand = base
     k = 1

@@ -157,7 +157,7 @@ def cost_of(op: str, nargs: int) -> int:
     return CELLS[op].cost
 
 
-def levels_of(op: str, nargs: int) -> int:
+def cell_levels(op: str, nargs: int) -> int:
     if op == "ADD":
         return 2 * add_width(nargs) + 1
     return CELLS[op].levels

@@ -7,5 +7,5 @@ from .common import finish, start
 @scheme("behavioral", doc="plain a + b + cin, the synthesis tool's own adder (the baseline)")
 def behavioral(spec):
     f = start(spec)
-    bits = f.b.ADD(f.a, f.bb, f.cin, "add", "add")
+    bits = f.build.ADD(f.a, f.b, f.cin, "add", "add")
     return finish(f, bits[: f.width], bits[f.width])

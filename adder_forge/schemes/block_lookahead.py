@@ -16,9 +16,9 @@ ripple above it starts from g_lo | (p_lo & t_lo-1) & H_lo-1, so the recovering A
 
 from __future__ import annotations
 
-from .blocksizes import block_option, check_block
+from .blocksizes import block_option, validate_block
 from ..spec.registry import int_option, scheme
-from .blockparts import begin, gp_tree, ripple
+from .blockparts import begin, gp_tree, ripple_chain
 from .common import balanced, finish, sum_bits
 from .ling import LING, carry, transmits
 
@@ -27,11 +27,11 @@ BLOCK = block_option(4, "bits per ripple block: k or a list from bit 0 up", Fals
 GROUP = int_option("group", 4, 2, 8, "blocks (or groups of blocks) per lookahead unit")
 
 
-@scheme("block-lookahead", options=(BLOCK, GROUP, LING), check=check_block,
+@scheme("block-lookahead", options=(BLOCK, GROUP, LING), validate=validate_block,
         doc="block carry-lookahead: ripple blocks, carries into blocks from hierarchical lookahead units")
 def block_lookahead(spec):
     f, blocks, g, p = begin(spec)
-    b = f.b
+    b = f.build
     carries = []
     if spec.opt("ling"):
         t = transmits(f)
@@ -39,7 +39,7 @@ def block_lookahead(spec):
         h = lookahead_unit(b, pairs, f.cin, spec.opt("group"), "")
         for j, (lo, hi) in enumerate(blocks):
             if j == 0:
-                carries += ripple(b, g, p, lo, hi, f.cin)[:-1]
+                carries += ripple_chain(b, g, p, lo, hi, f.cin)[:-1]
                 continue
             H = b.name_node(h[j], f"h{lo - 1}")
             carries.append(carry(b, t, H, lo - 1))
@@ -48,14 +48,14 @@ def block_lookahead(spec):
                 # cell, whose other inputs are early, so the chain starts one level sooner.
                 pt = b.AND(p[lo], t[lo - 1], f"pt{lo}", "carry")
                 first = b.AO21(pt, H, g[lo], f"c{lo + 1}", "carry")
-                carries += ripple(b, g, p, lo + 1, hi, first)[:-1]
+                carries += ripple_chain(b, g, p, lo + 1, hi, first)[:-1]
         cout = carry(b, t, b.name_node(h[-1], f"h{f.width - 1}"), f.width - 1)
     else:
         pairs = [gp_tree(b, [(g[i], p[i]) for i in range(lo, hi)], f"b{j}", "block_pg")
                  for j, (lo, hi) in enumerate(blocks)]
         c = lookahead_unit(b, pairs, f.cin, spec.opt("group"), "")
         for (lo, hi), cin in zip(blocks, c):
-            carries += ripple(b, g, p, lo, hi, b.name_node(cin, f"c{lo}"))[:-1]
+            carries += ripple_chain(b, g, p, lo, hi, b.name_node(cin, f"c{lo}"))[:-1]
         cout = b.name_node(c[-1], f"c{f.width}")
     return finish(f, sum_bits(f, p, carries), cout)
 

@@ -9,8 +9,9 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from .blocksizes import resolve, spans, text, wide_note
+from .blocksizes import resolve, block_bounds, wide_note
 from ..ir.builder import Builder
+from ..spec.registry import value_text
 from .common import Frame, generate_propagate, start
 
 
@@ -18,13 +19,13 @@ def begin(spec, auto_rule=None) -> tuple[Frame, list[tuple[int, int]], list[int]
     """Ports, the blocks' (lo, hi) bit ranges (recorded in the meta as ``block_sizes``), and bitwise g, p."""
     f = start(spec)
     sizes = resolve(spec.opt("block"), f.width, auto_rule)
-    f.b.meta.append(("block_sizes", text(sizes)))
-    f.b.meta += [("note", n) for n in [wide_note(spec.opt("block"), f.width)] if n]
+    f.build.meta.append(("block_sizes", value_text(sizes)))
+    f.build.meta += [("note", n) for n in [wide_note(spec.opt("block"), f.width)] if n]
     g, p = generate_propagate(f)
-    return f, spans(sizes), g, p
+    return f, block_bounds(sizes), g, p
 
 
-def ripple(b: Builder, g, p, lo: int, hi: int, cin: int, stem: str = "c") -> list[int]:
+def ripple_chain(b: Builder, g, p, lo: int, hi: int, cin: int, stem: str = "c") -> list[int]:
     """Carries into bits lo .. hi (the last is the block's carry out), rippled from ``cin``."""
     c = [cin]
     for i in range(lo, hi):
@@ -81,12 +82,6 @@ def conditional(b: Builder, a, bb, g, p, lo: int, hi: int) -> Conditional:
     s0 = [p[lo]] + [b.XOR(p[i], c0[i - lo - 1], f"s0_{i}", "sum") for i in range(lo + 1, hi)]
     s1 = [Inv(p[lo])] + [b.XOR(p[i], c1[i - lo - 1], f"s1_{i}", "sum") for i in range(lo + 1, hi)]
     return Conditional(lo, hi, s0, s1, c0[-1], c1[-1])
-
-
-def block_gp(b: Builder, g, p, lo: int, hi: int, name: str, role: str = "block_pg") -> tuple[int, int]:
-    """Group generate and propagate of bits lo .. hi - 1 as a balanced tree of (g, p) combines:
-    G = G_hi | P_hi & G_lo, P = P_hi & P_lo (log2 k combine levels)."""
-    return gp_tree(b, [(g[i], p[i]) for i in range(lo, hi)], name, role)
 
 
 def gp_tree(b: Builder, pairs: list[tuple[int, int]], name: str, role: str) -> tuple[int, int]:

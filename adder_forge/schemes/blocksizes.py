@@ -14,7 +14,7 @@ from __future__ import annotations
 
 from typing import Callable
 
-from ..spec.registry import Option, shown, suggest, type_name, yaml11_hint
+from ..spec.registry import Option, shown, suggest, type_name, value_text, yaml11_hint
 
 AUTO = "auto"
 
@@ -49,11 +49,11 @@ def block_option(default, doc: str, allow_auto: bool, scheme: str) -> Option:
     return Option("block", parse, default, doc)
 
 
-def check_block(spec) -> None:
+def validate_block(spec) -> None:
     """Cross-key rule: a list of sizes must cover the width exactly (spec-time, so the error has a place)."""
     v = spec.opt("block")
     if isinstance(v, tuple) and sum(v) != spec.width:
-        shown_sizes = text(v) if len(v) <= 16 else f"({len(v)} sizes)"
+        shown_sizes = value_text(v) if len(v) <= 16 else f"({len(v)} sizes)"
         raise spec.error("block", f"'block' sizes {shown_sizes} add up to {sum(v)} bits but 'width' is {spec.width}")
 
 
@@ -79,17 +79,13 @@ def wide_note(value, width: int) -> str | None:
     return None
 
 
-def spans(sizes) -> list[tuple[int, int]]:
+def block_bounds(sizes) -> list[tuple[int, int]]:
     """(lo, hi) bit ranges of the blocks, hi exclusive."""
     out, lo = [], 0
     for s in sizes:
         out.append((lo, lo + s))
         lo += s
     return out
-
-
-def text(sizes) -> str:
-    return "[" + ", ".join(str(s) for s in sizes) + "]"
 
 
 # -- carry-skip ------------------------------------------------------------------------------------------------

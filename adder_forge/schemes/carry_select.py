@@ -7,9 +7,9 @@ is c0 | c_in & c1 (one AO21 a block, role ``select``), valid because a block's c
 0 implies the one under carry-in 1.
 """
 
-from .blocksizes import AUTO, block_option, check_block, select_auto
+from .blocksizes import AUTO, block_option, validate_block, select_auto
 from ..spec.registry import scheme
-from .blockparts import begin, conditional, ripple, select, select_carry
+from .blockparts import begin, conditional, ripple_chain, select, select_carry
 from .common import finish
 
 
@@ -17,17 +17,17 @@ BLOCK = block_option(AUTO, "bits per block: k, a list from bit 0 up, or auto (in
                      True, "carry-select")
 
 
-@scheme("carry-select", options=(BLOCK,), check=check_block,
+@scheme("carry-select", options=(BLOCK,), validate=validate_block,
         doc="carry-select: blocks summed for carry-in 0 and 1, a multiplexer per bit picks")
 def carry_select(spec):
     f, blocks, g, p = begin(spec, select_auto)
-    b = f.b
+    b = f.build
     lo, hi = blocks[0]
-    c = ripple(b, g, p, lo, hi, f.cin)
+    c = ripple_chain(b, g, p, lo, hi, f.cin)
     sums = [b.XOR(p[i], c[i - lo], f"s{i}", "sum") for i in range(lo, hi)]
     carry = c[-1]
     for j, (lo, hi) in enumerate(blocks[1:], start=1):
-        cond = conditional(b, f.a, f.bb, g, p, lo, hi)
+        cond = conditional(b, f.a, f.b, g, p, lo, hi)
         sums += [select(b, carry, cond.s0[i - lo], cond.s1[i - lo], f"s{i}") for i in range(lo, hi)]
         carry = select_carry(b, carry, cond.c0, cond.c1, f"c{hi}")
     return finish(f, sums, carry)

@@ -10,9 +10,9 @@ never be sensitized. Those are the adder's false paths; ``netlist_levels`` count
 
 from dataclasses import replace
 
-from .blocksizes import AUTO, block_option, check_block, skip_auto
+from .blocksizes import AUTO, block_option, validate_block, skip_auto
 from ..spec.registry import scheme
-from .blockparts import begin, ripple
+from .blockparts import begin, ripple_chain
 from .common import balanced, finish, sum_bits
 
 FALSE_PATHS = ("false paths: in every bypassed block, carry-in -> ripple -> carry out can never be sensitized "
@@ -24,16 +24,16 @@ BLOCK = block_option(AUTO, "bits per skip block: k, a list from bit 0 up, or aut
                      "the unit-delay estimate)", True, "carry-skip")
 
 
-@scheme("carry-skip", options=(BLOCK,), check=check_block,
+@scheme("carry-skip", options=(BLOCK,), validate=validate_block,
         doc="carry-skip: ripple blocks with a bypass multiplexer on the block propagate; false paths, see "
             "netlist_levels_skip_aware")
 def carry_skip(spec):
     f, blocks, g, p = begin(spec, skip_auto)
-    b = f.b
+    b = f.build
     carries = []
     carry = f.cin
     for j, (lo, hi) in enumerate(blocks):
-        c = ripple(b, g, p, lo, hi, carry)
+        c = ripple_chain(b, g, p, lo, hi, carry)
         carries += c[:-1]
         if b.is_const(carry) is not None:
             carry = c[-1]  # a constant carry-in has nothing to bypass

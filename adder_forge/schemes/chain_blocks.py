@@ -21,8 +21,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from .blocksizes import AUTO, block_option, resolve, spans, text, wide_note
-from ..spec.registry import choice_option
+from .blocksizes import AUTO, block_option, block_bounds, resolve, wide_note
+from ..spec.registry import choice_option, value_text
 from .common import Frame, start
 
 
@@ -67,31 +67,31 @@ class Chains:
 
 def first_block(f: Frame, hi: int) -> tuple[list[int], int]:
     """Block 0: one chain from the adder's carry-in; its sums and its carry out (the carry into block 1)."""
-    bits = f.b.ADD(f.a[:hi], f.bb[:hi], f.cin, "x0", "carry")
+    bits = f.build.ADD(f.a[:hi], f.b[:hi], f.cin, "x0", "carry")
     return bits[:hi], bits[hi]
 
 
 def both_chains(f: Frame, j: int, lo: int, hi: int) -> Chains:
     """Block j over bits lo .. hi - 1 summed by two chains, for carry-in 0 and 1."""
-    b = f.b
-    z = b.ADD(f.a[lo:hi], f.bb[lo:hi], b.const(0), f"x{j}_0", "carry")
-    o = b.ADD(f.a[lo:hi], f.bb[lo:hi], b.const(1), f"x{j}_1", "carry")
+    b = f.build
+    z = b.ADD(f.a[lo:hi], f.b[lo:hi], b.const(0), f"x{j}_0", "carry")
+    o = b.ADD(f.a[lo:hi], f.b[lo:hi], b.const(1), f"x{j}_1", "carry")
     k = hi - lo
     return Chains(lo, hi, z[:k], o[:k], z[k], o[k])
 
 
 def select_sums(f: Frame, c: int, blk: Chains) -> list[int]:
     """The block's sums picked by the carry into it: c ? s1 : s0, one multiplexer a bit."""
-    return [f.b.MUX(c, blk.s0[i], blk.s1[i], f"s{blk.lo + i}", "select") for i in range(blk.hi - blk.lo)]
+    return [f.build.MUX(c, blk.s0[i], blk.s1[i], f"s{blk.lo + i}", "select") for i in range(blk.hi - blk.lo)]
 
 
 def begin(spec, auto_rule) -> tuple[Frame, list[tuple[int, int]]]:
     """Ports and the blocks' (lo, hi) bit ranges (recorded in the meta as ``block_sizes``)."""
     f = start(spec)
     sizes = resolve(spec.opt("block"), f.width, lambda n: auto_rule(spec, n))
-    f.b.meta.append(("block_sizes", text(sizes)))
-    f.b.meta += [("note", n) for n in [wide_note(spec.opt("block"), f.width)] if n]
-    return f, spans(sizes)
+    f.build.meta.append(("block_sizes", value_text(sizes)))
+    f.build.meta += [("note", n) for n in [wide_note(spec.opt("block"), f.width)] if n]
+    return f, block_bounds(sizes)
 
 
 def lay_out(spec, auto_rule) -> tuple[Frame, list[int], int, list[Chains]]:

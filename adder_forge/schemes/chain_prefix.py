@@ -16,7 +16,7 @@ from __future__ import annotations
 from . import chain_blocks as cb
 from .prefix_networks import NETWORKS, build, final_refs, prune
 from ..spec.registry import choice_option, scheme
-from .blocksizes import check_block, text
+from .blocksizes import validate_block
 from .common import finish
 
 PREFIX = choice_option("prefix", sorted(k for k, v in NETWORKS.items() if v.param is None), "sklansky",
@@ -35,14 +35,14 @@ def auto(spec, width: int) -> tuple[int, ...]:
     return cb.best_uniform(width, lambda sizes: cb.prefix_delay(fam, sizes, levels(name, len(sizes))))
 
 
-@scheme("chain-prefix", options=(cb.block_key("chain-prefix"), PREFIX, cb.TARGET), check=check_block,
+@scheme("chain-prefix", options=(cb.block_key("chain-prefix"), PREFIX, cb.TARGET), validate=validate_block,
         doc="FPGA hybrid: carry-chain blocks for carry-in 0 and 1, a prefix network over the blocks' "
             "generate/transmit, a multiplexer per bit")
 def chain_prefix(spec):
     f, sums, c1, chains = cb.lay_out(spec, auto)
     if not chains:
         return finish(f, sums, c1)
-    b = f.b
+    b = f.build
     m = len(chains) + 1
     outs = list(range(m - 1)) + ([m - 1] if spec.carry_out else [])
     graph = prune(build(spec.opt("prefix"), m), outs, f"{spec.opt('prefix')} over {m} blocks")

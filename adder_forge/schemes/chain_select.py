@@ -15,7 +15,7 @@ each block selects its sums. The block carries come from one of two joins (``joi
 from __future__ import annotations
 
 from . import chain_blocks as cb
-from .blocksizes import check_block
+from .blocksizes import validate_block
 from ..spec.registry import choice_option, scheme
 from .common import finish
 
@@ -30,14 +30,14 @@ def auto(spec, width: int) -> tuple[int, ...]:
     return cb.select_auto(fam, width)
 
 
-@scheme("chain-select", options=(cb.block_key("chain-select"), JOIN, cb.TARGET), check=check_block,
+@scheme("chain-select", options=(cb.block_key("chain-select"), JOIN, cb.TARGET), validate=validate_block,
         doc="FPGA hybrid: carry-chain blocks for carry-in 0 and 1, selected by the block carries (a LUT select "
             "chain or a second carry chain)")
 def chain_select(spec):
     f, sums, carry, chains = cb.lay_out(spec, auto)
     if not chains:
         return finish(f, sums, carry)
-    b = f.b
+    b = f.build
     if spec.opt("join") == "lut":
         for ch in chains:
             sums += cb.select_sums(f, carry, ch)

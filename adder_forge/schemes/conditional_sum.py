@@ -12,9 +12,9 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from .blocksizes import block_option, check_block
+from .blocksizes import block_option, validate_block
 from ..spec.registry import scheme
-from .blockparts import begin, conditional, ripple, select, select_carry
+from .blockparts import begin, conditional, ripple_chain, select, select_carry
 from .common import finish
 
 
@@ -34,18 +34,18 @@ BLOCK = block_option(1, "bits per leaf group: 1 (Sklansky's form), k, or a list 
                      "conditional-sum")
 
 
-@scheme("conditional-sum", options=(BLOCK,), check=check_block,
+@scheme("conditional-sum", options=(BLOCK,), validate=validate_block,
         doc="conditional-sum (Sklansky): log2 n levels of multiplexers merging conditional sums")
 def conditional_sum(spec):
     f, blocks, g, p = begin(spec)
-    b = f.b
+    b = f.build
     groups = []
     for lo, hi in blocks:
         if lo == 0:
-            c = ripple(b, g, p, lo, hi, f.cin)
+            c = ripple_chain(b, g, p, lo, hi, f.cin)
             groups.append(Group(lo, hi, ([b.XOR(p[i], c[i], f"s{i}", "sum") for i in range(lo, hi)],), (c[-1],)))
         else:
-            cd = conditional(b, f.a, f.bb, g, p, lo, hi)
+            cd = conditional(b, f.a, f.b, g, p, lo, hi)
             groups.append(Group(lo, hi, (cd.s0, cd.s1), (cd.c0, cd.c1)))
     level = 0
     while len(groups) > 1:

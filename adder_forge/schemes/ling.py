@@ -15,7 +15,7 @@ LING = bool_option("ling", False, "Ling pseudo-carries H_i = c_i+1 | c_i in the 
 
 def transmits(f) -> list[int]:
     """t_i = a_i | b_i for every bit of the frame."""
-    return [f.b.OR(f.a[i], f.bb[i], f"t{i}", "pg") for i in range(f.width)]
+    return [f.build.OR(f.a[i], f.b[i], f"t{i}", "pg") for i in range(f.width)]
 
 
 def carry(b, t: list[int], h: int, i: int) -> int:

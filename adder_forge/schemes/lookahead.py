@@ -20,7 +20,7 @@ MAX_LOOKAHEAD_WIDTH = 128  # 128 bits is already ~350k gates; wider flat lookahe
         doc="flat carry-lookahead: every carry from all lower g/p and cin, no sharing; O(log n) depth, O(n^3) gates")
 def lookahead(spec):
     f = start(spec)
-    b = f.b
+    b = f.build
     g, p = generate_propagate(f)
     if spec.opt("ling"):
         t = transmits(f)

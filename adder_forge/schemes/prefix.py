@@ -22,9 +22,9 @@ from __future__ import annotations
 from pathlib import Path
 
 from ..base.errors import NetworkError, SpecError
-from ..spec.registry import Option, choice_option, scheme, shown, type_name
+from ..spec.registry import Option, choice_option, scheme, shown, type_name, value_text
 from . import network_file
-from .blocksizes import block_option, check_block, resolve, spans, text, wide_note
+from .blocksizes import block_option, validate_block, resolve, block_bounds, wide_note
 from .prefix_networks import NETWORKS, build, final_refs, param_levels, prune, validate
 from .blockparts import conditional, select
 from .common import finish, generate_propagate, start
@@ -99,8 +99,8 @@ def file_network(spec):
     return graph
 
 
-def check_prefix(spec) -> None:
-    check_block(spec)
+def validate_prefix(spec) -> None:
+    validate_block(spec)
     if spec.opt("prefix") == FROM_FILE:
         for key in ("taxonomy", "fanouts"):
             if spec.opt(key) is not None:
@@ -127,7 +127,7 @@ def check_prefix(spec) -> None:
             f"{L} lateral fanouts, the last level first,"
         raise spec.error("prefix", f"'prefix: {kind.name}' needs '{kind.param}': {what} for {n} prefix inputs{context}")
     try:
-        kind.check(n, value, context)
+        kind.validate(n, value, context)
     except NetworkError as exc:
         raise spec.error(kind.param, str(exc)) from None
 
@@ -148,16 +148,16 @@ def network_for(spec, full=None):
         full = build(kind.name, spec.width + ci, spec.opt(kind.param) if kind.param else None)
     block = spec.opt("block")
     sizes = resolve(block, spec.width)
-    bounds = [lo for lo, _ in spans(sizes)[1:]] + ([spec.width] if spec.carry_out else [])
+    bounds = [lo for lo, _ in block_bounds(sizes)[1:]] + ([spec.width] if spec.carry_out else [])
     style = full.style
     if any(s > 1 for s in sizes):
-        style += f", block {block if isinstance(block, int) else text(block)}"
+        style += f", block {block if isinstance(block, int) else value_text(block)}"
     if spec.opt("ling"):
         style += ", ling"
     return prune(full, [s - 1 + ci for s in bounds], style), sizes
 
 
-@scheme("prefix", options=OPTIONS, check=check_prefix,
+@scheme("prefix", options=OPTIONS, validate=validate_prefix,
         doc="parallel-prefix: Kogge-Stone, Brent-Kung, Sklansky, Han-Carlson, Ladner-Fischer, Knowles, the "
             "Harris (l, f, t) taxonomy, any network from a file; sparse trees with carry-select sums; Ling carries")
 def prefix_adder(spec):
@@ -168,12 +168,12 @@ def adder_with_network(spec, full=None):
     """The prefix adder of ``spec``, on ``full`` instead of the spec's network when given: any legal prefix
     graph (a searched one, say) over width + carry_in inputs. Block and Ling keys apply as usual."""
     f = start(spec)
-    b = f.b
+    b = f.build
     ci = int(spec.carry_in)
     ling = spec.opt("ling")
     graph, sizes = network_for(spec, full)
     if any(s > 1 for s in sizes):
-        b.meta.append(("block_sizes", text(sizes)))
+        b.meta.append(("block_sizes", value_text(sizes)))
     b.meta += [("note", n) for n in [wide_note(spec.opt("block"), spec.width)] if n]
     g, p = generate_propagate(f)
     gen = [f.cin] * ci + g
@@ -206,12 +206,12 @@ def adder_with_network(spec, full=None):
         return carry(b, t, h, s - 1) if ling and r >= 0 else h  # an input column is g_0 itself
 
     sums: list[int] = []
-    for lo, hi in spans(sizes):
+    for lo, hi in block_bounds(sizes):
         cb = f.cin if lo == 0 else carry_into(lo)
         if hi - lo == 1:
             sums.append(b.XOR(p[lo], cb, f"s{lo}", "sum"))
             continue
-        cond = conditional(b, f.a, f.bb, g, p, lo, hi)
+        cond = conditional(b, f.a, f.b, g, p, lo, hi)
         sums += [select(b, cb, cond.s0[i - lo], cond.s1[i - lo], f"s{i}") for i in range(lo, hi)]
     cout = carry_into(f.width) if spec.carry_out else b.const(0)
     return finish(f, sums, cout, prefix=graph)

@@ -43,7 +43,7 @@ The published forms built here, L = ceil(log2 n):
   construction from each network's own paper (docs/references.md).
 
 Adding a network: write ``@network("name", source="Author year, title")`` over a function ``(n) ->
-PrefixGraph`` (or ``(n, value)`` with ``param="key"`` for a parameterised family and a ``check`` that
+PrefixGraph`` (or ``(n, value)`` with ``param="key"`` for a parameterised family and a ``validate`` that
 raises ``NetworkError`` for a value that does not fit n) that returns ``from_rows(n, rows, style)``.
 The scheme, metrics, tests and simulator matrix pick it up from ``NETWORKS``.
 """
@@ -56,7 +56,7 @@ from typing import Callable
 from ..base.errors import NetworkError
 from ..ir.network import PrefixCell, PrefixGraph
 
-__all__ = ["NETWORKS", "NetworkError", "NetworkType", "build", "final_refs", "from_rows", "levels_of", "network",
+__all__ = ["NETWORKS", "NetworkError", "NetworkType", "build", "final_refs", "from_rows", "ceil_log2", "network",
            "param_levels", "prune", "validate"]
 
 
@@ -66,30 +66,30 @@ class NetworkType:
     build: Callable[..., PrefixGraph]  # (n) or (n, value) -> PrefixGraph
     source: str
     param: str | None = None  # the spec key holding the family's parameter
-    check: Callable[..., None] | None = None  # (n, value, context) -> None, raises NetworkError
+    validate: Callable[..., None] | None = None  # (n, value, context) -> None, raises NetworkError
 
 
 NETWORKS: dict[str, NetworkType] = {}
 
 
-def network(name: str, *, source: str, param: str | None = None, check=None):
+def network(name: str, *, source: str, param: str | None = None, validate=None):
     def deco(fn):
         if name in NETWORKS:
             raise ValueError(f"prefix network {name} registered twice")
-        NETWORKS[name] = NetworkType(name, fn, source, param, check)
+        NETWORKS[name] = NetworkType(name, fn, source, param, validate)
         return fn
 
     return deco
 
 
-def levels_of(n: int) -> int:
+def ceil_log2(n: int) -> int:
     """ceil(log2 n): the fewest levels of 2-input cells that can reach n columns (0 for one column)."""
     return (n - 1).bit_length()
 
 
 def param_levels(n: int) -> int:
     """Levels the parameter families are sized for: a 1-input network takes the 2-input parameters."""
-    return max(1, levels_of(n))
+    return max(1, ceil_log2(n))
 
 
 def build(name: str, n: int, value=None) -> PrefixGraph:
@@ -97,8 +97,8 @@ def build(name: str, n: int, value=None) -> PrefixGraph:
     kind = NETWORKS[name]
     if kind.param is None:
         return kind.build(n)
-    if kind.check is not None:
-        kind.check(n, value)
+    if kind.validate is not None:
+        kind.validate(n, value)
     return kind.build(n, value)
 
 
@@ -291,17 +291,17 @@ def prune(graph: PrefixGraph, outputs, style: str | None = None) -> PrefixGraph:
 @network("kogge-stone", source="Kogge and Stone 1973, A parallel algorithm for the efficient solution of a "
                                "general class of recurrence equations")
 def kogge_stone(n: int) -> PrefixGraph:
-    rows = [[(i, i - (1 << k)) for i in range(1 << k, n)] for k in range(levels_of(n))]
+    rows = [[(i, i - (1 << k)) for i in range(1 << k, n)] for k in range(ceil_log2(n))]
     return from_rows(n, rows, "kogge-stone")
 
 
 @network("sklansky", source="Sklansky 1960, Conditional-sum addition logic")
 def sklansky(n: int) -> PrefixGraph:
-    rows = [[(i, (i >> k << k) - 1) for i in range(n) if i >> k & 1] for k in range(levels_of(n))]
+    rows = [[(i, (i >> k << k) - 1) for i in range(n) if i >> k & 1] for k in range(ceil_log2(n))]
     return from_rows(n, rows, "sklansky")
 
 
-def check_taxonomy(n: int, value, context: str = "") -> None:
+def validate_taxonomy(n: int, value, context: str = "") -> None:
     l, f, t = value
     want = param_levels(n) - 1
     if l + f + t != want:
@@ -310,7 +310,7 @@ def check_taxonomy(n: int, value, context: str = "") -> None:
 
 
 def taxonomy_rows(n: int, l: int, f: int, t: int) -> list[list[tuple[int, int]]]:
-    """Rows of the (l, f, t) network (see the module docstring); ``check_taxonomy`` first."""
+    """Rows of the (l, f, t) network (see the module docstring); ``validate_taxonomy`` first."""
     rows = []
     for k in range(1, l + 1):  # Brent-Kung up the tree: block tops of 2^k
         s = 1 << k
@@ -328,7 +328,7 @@ def taxonomy_rows(n: int, l: int, f: int, t: int) -> list[list[tuple[int, int]]]
 
 
 @network("harris", source="Harris 2003, A taxonomy of parallel prefix networks", param="taxonomy",
-         check=check_taxonomy)
+         validate=validate_taxonomy)
 def harris(n: int, value) -> PrefixGraph:
     l, f, t = value
     return from_rows(n, taxonomy_rows(n, l, f, t), f"harris({l},{f},{t})", lazy=True)
@@ -366,7 +366,7 @@ def ladner_fischer_p0(n: int) -> PrefixGraph:
 
     def p0(cols):
         if len(cols) > 1:
-            h = 1 << (levels_of(len(cols)) - 1)
+            h = 1 << (ceil_log2(len(cols)) - 1)
             p1(cols[:h])
             p0(cols[h:])
             for c in cols[h:]:
@@ -388,7 +388,7 @@ def ladner_fischer_p0(n: int) -> PrefixGraph:
     return from_rows(n, rows, "ladner-fischer-p0")
 
 
-def check_fanouts(n: int, value, context: str = "") -> None:
+def validate_fanouts(n: int, value, context: str = "") -> None:
     want = param_levels(n)
     if len(value) != want:
         raise NetworkError(f"'fanouts' has {len(value)} entries, but {n} prefix inputs{context} need {want}, "
@@ -405,8 +405,8 @@ def check_fanouts(n: int, value, context: str = "") -> None:
                                f"({per_level[k - 2]}); the list must not grow from left to right")
 
 
-@network("knowles", source="Knowles 2001, A family of adders", param="fanouts", check=check_fanouts)
+@network("knowles", source="Knowles 2001, A family of adders", param="fanouts", validate=validate_fanouts)
 def knowles(n: int, value) -> PrefixGraph:
     per_level = list(reversed(value))
-    rows = [[(i, (i | (per_level[k] - 1)) - (1 << k)) for i in range(1 << k, n)] for k in range(levels_of(n))]
+    rows = [[(i, (i | (per_level[k] - 1)) - (1 << k)) for i in range(1 << k, n)] for k in range(ceil_log2(n))]
     return from_rows(n, rows, "knowles[" + ",".join(str(f) for f in value) + "]")

@@ -10,5 +10,5 @@ def ripple(spec):
     g, p = generate_propagate(f)
     carries = [f.cin]
     for i in range(f.width):
-        carries.append(f.b.AO21(p[i], carries[i], g[i], f"c{i + 1}", "carry"))
+        carries.append(f.build.AO21(p[i], carries[i], g[i], f"c{i + 1}", "carry"))
     return finish(f, sum_bits(f, p, carries), carries[f.width])

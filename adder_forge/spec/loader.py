@@ -10,10 +10,9 @@ from typing import Any
 import yaml
 
 from ..base.errors import SpecError
-from ..base.keywords import BUILTIN_NAMES, RESERVED
-from .registry import MAX_WIDTH, Option, bool_option, schemes, shown, suggest, type_name, yaml11_hint
+from ..base.keywords import BUILTIN_NAMES, IDENT, RESERVED
+from .registry import MAX_WIDTH, Option, bool_option, choice_option, schemes, shown, suggest, type_name, yaml11_hint
 
-_IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
 
 # Names the tool derives from a spec's name or uses for its own modules. A spec name may not take one of
 # them, so that no module or file the tool writes can clash with a user's adder (README, "Names").
@@ -27,7 +26,11 @@ MAX_NAME = 128  # file names are the name plus a suffix; most file systems stop 
 MAX_SPEC_BYTES = 16 << 20  # a spec is a few lines; this bounds what a mistaken path can make us read
 
 # Keys every spec may carry; a scheme declares the rest (registry.Option).
-COMMON_KEYS = ("name", "width", "scheme", "carry_in", "carry_out")
+COMMON_KEYS = ("name", "width", "scheme", "carry_in", "carry_out", "form")
+# The shapes NAME.v can take: one module fixed to the spec's width, gate by gate (flat), or one module with
+# a WIDTH parameter whose generate loops build the same structure at any width (emit/param_verilog.py,
+# which also says which schemes have that form).
+FORMS = ("flat", "parameterized")
 
 
 @dataclass(frozen=True)
@@ -40,6 +43,7 @@ class Spec:
     options: tuple[tuple[str, Any], ...] = ()  # the scheme's own keys, defaults filled in, in declared order
     source: str = "<spec>"
     positions: tuple[tuple[str, int, int], ...] = ()  # key -> (line, col) of its value, 1-based
+    form: str = "flat"  # FORMS
 
     def opt(self, key: str, default: Any = None) -> Any:
         for k, v in self.options:
@@ -60,14 +64,13 @@ class Spec:
         line, col = self.where(key)
         return SpecError(message, self.source, line, col, key)
 
-    def given(self, key: str) -> bool:
-        return any(k == key for k, _, _ in self.positions)
-
     def to_dict(self) -> dict[str, Any]:
         d: dict[str, Any] = {"name": self.name, "width": self.width, "scheme": self.scheme,
                              "carry_in": self.carry_in, "carry_out": self.carry_out}
         for k, v in self.options:
             d[k] = _plain(v)
+        if self.form != "flat":  # only when asked for, so flat reports and headers read as before
+            d["form"] = self.form
         return d
 
 
@@ -78,9 +81,11 @@ def _plain(v):
 
 
 def make_spec(name: str, width: int, scheme: str, carry_in: bool = True, carry_out: bool = True,
-              source: str = "<spec>", **options) -> Spec:
+              source: str = "<spec>", form: str = "flat", **options) -> Spec:
     """Validate a spec given as Python values (tests, the explorer); same rules as a YAML file."""
     data = {"name": name, "width": width, "scheme": scheme, "carry_in": carry_in, "carry_out": carry_out}
+    if form != "flat":
+        data["form"] = form
     data.update({k.replace("__", "-"): v for k, v in options.items()})
     # The tool's own specs (the report's NAME_plus baseline) may run past a user's limit by their suffix.
     return from_mapping(data, source, {}, max_name=MAX_NAME + max(map(len, DERIVED_SUFFIXES)))
@@ -283,7 +288,7 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
     name = data["name"]
     if not isinstance(name, str):
         fail_at("name", f"'name' must be a Verilog identifier, got {type_name(name)}")
-    if not _IDENT.match(name):
+    if not IDENT.match(name):
         fail_at("name", f"'name' must be a legal Verilog identifier (letters, digits, _; not starting with a digit), got '{shown(name)}'")
     if name in RESERVED:
         fail_at("name", f"'name' '{name}' is a Verilog/SystemVerilog keyword")
@@ -317,6 +322,10 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
         else:
             flags[key] = True
 
+    form = "flat"
+    if "form" in data:
+        form = choice_option("form", FORMS, "flat", "").parse(data["form"], lambda m: fail_at("form", m))
+
     options = []
     for o in sch.options:
         if o.key in data:
@@ -325,9 +334,10 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
             options.append((o.key, o.default))
 
     positions = tuple((k, *pos[k]) for k in data if k in pos)
-    spec = Spec(name, width, scheme_name, flags["carry_in"], flags["carry_out"], tuple(options), source, positions)
-    if sch.check is not None:
-        sch.check(spec)
+    spec = Spec(name, width, scheme_name, flags["carry_in"], flags["carry_out"], tuple(options), source, positions,
+                form)
+    if sch.validate is not None:
+        sch.validate(spec)
     return spec
 
 

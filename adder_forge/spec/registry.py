@@ -18,6 +18,16 @@ def shown(text, limit: int = 40) -> str:
     return text + ("..." if cut else "")
 
 
+def value_text(v) -> str:
+    """A key's value as the tool writes it everywhere (build line, Verilog header, IR dump, `schemes`):
+    booleans as YAML writes them, sequences as a YAML flow list."""
+    if isinstance(v, bool):
+        return str(v).lower()
+    if isinstance(v, (list, tuple)):
+        return "[" + ", ".join(value_text(x) for x in v) + "]"
+    return str(v)
+
+
 def suggest(word: str, choices, aliases: dict[str, str] | None = None) -> str:
     """' (did you mean 'x'?)' for the closest choice, else the list of valid ones.
 
@@ -58,19 +68,19 @@ class Scheme:
     options: tuple[Option, ...] = ()
     doc: str = ""
     max_width: int = MAX_WIDTH
-    check: Callable[..., None] | None = None  # (Spec) -> None; raises spec.error(...) for cross-key rules
+    validate: Callable[..., None] | None = None  # (Spec) -> None; raises spec.error(...) for cross-key rules
 
 
 SCHEMES: dict[str, Scheme] = {}
 
 
-def scheme(name: str, *, options=(), doc: str = "", max_width: int = MAX_WIDTH, check=None):
+def scheme(name: str, *, options=(), doc: str = "", max_width: int = MAX_WIDTH, validate=None):
     """Register ``fn(spec) -> Network`` as the construction of carry scheme ``name``."""
 
     def deco(fn):
         if name in SCHEMES:
             raise ValueError(f"scheme {name} registered twice")
-        SCHEMES[name] = Scheme(name, fn, tuple(options), doc or (fn.__doc__ or "").strip(), max_width, check)
+        SCHEMES[name] = Scheme(name, fn, tuple(options), doc or (fn.__doc__ or "").strip(), max_width, validate)
         return fn
 
     return deco
