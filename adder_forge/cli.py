@@ -68,6 +68,20 @@ def _parser() -> argparse.ArgumentParser:
 
     sub.add_parser("schemes", help="list the carry schemes and the keys each accepts")
 
+    s = sub.add_parser("search", help="find a prefix network under bounds and write it as a network file")
+    s.add_argument("--width", type=int, required=True, metavar="N", help="adder width in bits")
+    s.add_argument("--max-levels", type=int, required=True, metavar="L", help="most levels of prefix cells")
+    s.add_argument("--max-fanout", type=int, metavar="F", help="most fanout (Harris 2003's measure, docs/prefix.md)")
+    s.add_argument("--max-tracks", type=int, metavar="T", help="most wire tracks (Harris 2003's measure)")
+    s.add_argument("--objective", default="cells", metavar="NAME", help="cells, area-delay or lut6 (default cells)")
+    s.add_argument("--seconds", type=float, default=60.0, metavar="S",
+                   help="time for the annealing rounds (default 60); the file records how many rounds ran")
+    s.add_argument("--rounds", type=int, metavar="R", help="exactly R annealing rounds, whatever the time (reproduces a file)")
+    s.add_argument("--seed", type=int, default=1, metavar="K")
+    s.add_argument("--carry-in", action="store_true", help="the adder has a carry-in: one more prefix input")
+    s.add_argument("--out", required=True, metavar="FILE", help="the network file to write")
+    s.add_argument("--force", action="store_true", help="replace FILE if it exists")
+
     e = sub.add_parser("explore", help="sweep widths x variants: check, measure, Pareto plots and an HTML report")
     e.add_argument("sweep", metavar="SWEEP")
     e.add_argument("--out", metavar="DIR", help="output folder (default: out/NAME, NAME the sweep's name)")
@@ -112,6 +126,8 @@ def main(argv: list[str] | None = None) -> int:
     set_listener(lambda message: print(f"... {message}", file=sys.stderr, flush=True))
     try:
         for option in ("out", "keep", "cache"):
+            if args.command == "search":
+                break  # its --out is a file
             if getattr(args, option, None) is not None:
                 check_folder(getattr(args, option), args.command, f"--{option}")
         return _COMMANDS[args.command](args)
@@ -313,6 +329,45 @@ def cmd_schemes(args) -> int:
     return EXIT_OK
 
 
+def cmd_search(args) -> int:
+    from .search.run import Request, check_request, search
+
+    out = Path(args.out)
+    if not args.out.strip() or out.is_dir():
+        raise UsageError(f"--out {args.out} must name a file, not a folder", "search", "--out")
+    if os.path.lexists(out) and not args.force:
+        raise UsageError(f"--out {args.out} exists; add --force to replace it", "search", "--out")
+    if not out.parent.is_dir():
+        raise UsageError(f"--out {args.out}: no folder {out.parent}", "search", "--out")
+    r = Request(args.width, args.max_levels, args.max_fanout, args.max_tracks, args.objective, args.seconds,
+                args.seed, args.rounds, args.carry_in)
+    check_request(r)  # before any work
+    found = search(r, progress=_progress())
+    text = found.file_text()
+    tmp = out.with_name(f".{out.name}.adder_forge_tmp")
+    try:
+        tmp.write_text(text, encoding="utf-8")
+        os.replace(tmp, out)
+    except OSError as exc:
+        from .base.errors import OutputError
+
+        tmp.unlink(missing_ok=True)
+        raise OutputError(f"cannot write {args.out}: {exc.strerror or exc}") from None
+    print(_search_line(found, args.out))
+    return EXIT_OK
+
+
+def _search_line(found, path) -> str:
+    from .emit.summary import bounds_text
+
+    f = found.figures
+    lut = f"; LUT6 flow {found.lut6['luts']} LUTs, {found.lut6['depth']} LUT levels" if found.lut6 else ""
+    checks = "; ".join(f"{c} {'pass' if ok else 'FAIL'}" for c, ok, _ in found.checks)
+    return (f"{found.name}: {f['prefix_nodes']} cells, {f['prefix_levels']} levels, depth {f['prefix_depth']}, "
+            f"fanout {f['prefix_fanout']}, {f['wire_tracks']} tracks; {bounds_text(f)}{lut}; from start "
+            f"{found.start} after {found.rounds} rounds; {checks} -> {path}")
+
+
 def _check_run_options(args, command: str) -> None:
     from .explore.executors import get
 
@@ -370,7 +425,8 @@ def cmd_pick(args) -> int:
     return EXIT_OK
 
 
-_COMMANDS = {"explore": cmd_explore, "pick": cmd_pick, "build": cmd_build, "verify": cmd_verify, "report": cmd_report, "dump": cmd_dump, "schemes": cmd_schemes}
+_COMMANDS = {"search": cmd_search, "explore": cmd_explore, "pick": cmd_pick, "build": cmd_build, "verify": cmd_verify,
+             "report": cmd_report, "dump": cmd_dump, "schemes": cmd_schemes}
 
 
 if __name__ == "__main__":

@@ -14,6 +14,7 @@ import contextlib
 import io
 import os
 import re
+import shutil
 import signal
 import subprocess
 import sys
@@ -255,6 +256,8 @@ def check_case(data: bytes, subprocess_run: bool = False) -> str:
     """Run `build` on one spec file in a sandbox folder; returns "built", "valid" (not built) or "rejected"."""
     with tempfile.TemporaryDirectory(prefix="adder_forge_fuzz_") as tmp:
         box = Path(tmp)
+        if (ROOT / "specs" / "nets").is_dir():  # network files the examples name (prefix: file)
+            shutil.copytree(ROOT / "specs" / "nets", box / "nets")
         spec = box / "case.yaml"
         spec.write_bytes(data)
         out = box / "out"
@@ -280,7 +283,8 @@ def check_case(data: bytes, subprocess_run: bool = False) -> str:
             os.chdir(cwd)
         assert "Traceback" not in err, err
         listing = _listing(box)
-        outside = {p for p in listing if p != "case.yaml" and p != "out" and not p.startswith("out" + os.sep)}
+        outside = {p for p in listing if p not in ("case.yaml", "out", "nets") and not p.startswith("out" + os.sep)
+                   and not (p.startswith("nets" + os.sep) and (ROOT / "specs" / p).is_file())}
         assert not outside, f"wrote outside the output folder: {sorted(outside)}"
         if code == 0:
             name = load_spec(spec).name

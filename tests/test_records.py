@@ -12,6 +12,7 @@ from __future__ import annotations
 import csv
 import io
 import json
+import re
 from pathlib import Path
 
 import pytest
@@ -48,6 +49,18 @@ def _same_as_old(old: dict, m: Measured, flows: list[str]) -> None:
     assert m.versus_plus() == old["versus_plus"], m.spec.name
 
 
+def _without_scheme_column(table: str) -> list:
+    """The table's cells without the scheme column (whose labels now carry every key that shapes the
+    adder: the old code printed 'carry-skip' for a carry-skip with block [4, 8, 8, 4]), and its notes."""
+    head, _, notes = table.partition("\n\n")
+    rows = [re.split(r"\s{2,}", line.strip()) for line in head.splitlines()[2:]]
+    return [[c for k, c in enumerate(r) if k != 1] for r in rows] + [notes]
+
+
+NEW_LABELS = {"e_skip24": "carry-skip (block [4, 8, 8, 4])", "e_bla16": "block-lookahead (ling)",
+              "e_hc16": "prefix (han-carlson, ling)", "e_sk16": "prefix (sklansky)", "g_ks8": "prefix (kogge-stone)"}
+
+
 def _run(run: str, tmp_path, order=1):
     g = GOLD["runs"][run]
     specs = [make_spec(n, w, s, **o) for n, w, s, o in g["specs"]][::order]
@@ -58,9 +71,10 @@ def _run(run: str, tmp_path, order=1):
 def test_estimates_match_the_old_code_path(tmp_path):
     g, res = _run("estimates", tmp_path)
     for old, m in zip(g["results"], res):
-        assert old["name"] == m.spec.name and old["label"] == m.label
+        assert old["name"] == m.spec.name and NEW_LABELS.get(m.spec.name, old["label"]) == m.label
         _same_as_old(old, m, [])
-    assert format_table(res) == g["table"]
+    assert _without_scheme_column(format_table(res)) == _without_scheme_column(g["table"])
+    assert format_table(res).splitlines()[0].split() == g["table"].splitlines()[0].split()
 
 
 @pytest.mark.synth
@@ -69,6 +83,7 @@ def test_synthesis_figures_match_the_old_code_path(tmp_path):
     g, res = _run("synth", tmp_path)
     for old, m in zip(g["results"], res):
         _same_as_old(old, m, g["flows"])
+    # No spec here has a key the old labels left out: the table is byte for byte the old one.
     assert format_table(res) == g["table"]
     # Every record says which program measured it, in which version; only the placed design has a seed.
     for r in res[0].figures.records:

@@ -20,7 +20,7 @@ from __future__ import annotations
 from collections import Counter
 
 from ..ir.cells import GATES, cost_of, cell_levels
-from ..ir.network import Network
+from ..ir.network import META_NOTE, Network, meta_values
 from .arrival import arrival, output_bits
 from .skip_timing import sensitizable_levels
 
@@ -71,7 +71,7 @@ def metrics(net: Network) -> dict:
     m = structure(net)
     # Skip-aware delay for adders with bypass multiplexers, whose netlist_levels counts false paths.
     m["netlist_levels_skip_aware"] = sensitizable_levels(net)
-    m["notes"] = [v for k, v in net.meta if k == "note"]  # facts a scheme wants in the report
+    m["notes"] = meta_values(net.meta, META_NOTE)  # facts a scheme wants in the report
     if m["netlist_plus_cells"]:
         m["notes"].append(f"netlist figures {LEFT_TO_SYNTHESIS}: Verilog + becomes whatever the synthesis tool "
                           "chooses; report --synth measures it")

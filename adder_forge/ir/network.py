@@ -14,6 +14,19 @@ from .cells import CELLS
 from .interface import Interface
 
 
+# Keys of Network.meta: facts a scheme records with the IR (ir.dump prints them; summaries read them).
+# Besides these, every spec key of the scheme is recorded under its own name.
+META_SCHEME = "scheme"  # the scheme's name
+META_NOTE = "note"  # a sentence for the report and the Verilog header (repeatable)
+META_BLOCK_SIZES = "block_sizes"  # the block sizes used, from bit 0 up (what block: auto resolved to)
+META_BLOCK_NETWORK = "block_network"  # the prefix network over the blocks of a carry-chain hybrid
+
+
+def meta_values(meta, key: str) -> list[str]:
+    """Every value recorded under ``key``, in order."""
+    return [v for k, v in meta if k == key]
+
+
 @dataclass(frozen=True)
 class Node:
     op: str

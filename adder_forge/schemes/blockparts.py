@@ -11,6 +11,7 @@ from dataclasses import dataclass
 
 from .blocksizes import resolve, block_bounds, wide_note
 from ..ir.builder import Builder
+from ..ir.network import META_BLOCK_SIZES, META_NOTE
 from ..spec.registry import value_text
 from .common import Frame, generate_propagate, start
 
@@ -19,8 +20,8 @@ def begin(spec, auto_rule=None) -> tuple[Frame, list[tuple[int, int]], list[int]
     """Ports, the blocks' (lo, hi) bit ranges (recorded in the meta as ``block_sizes``), and bitwise g, p."""
     f = start(spec)
     sizes = resolve(spec.opt("block"), f.width, auto_rule)
-    f.build.meta.append(("block_sizes", value_text(sizes)))
-    f.build.meta += [("note", n) for n in [wide_note(spec.opt("block"), f.width)] if n]
+    f.build.meta.append((META_BLOCK_SIZES, value_text(sizes)))
+    f.build.meta += [(META_NOTE, n) for n in [wide_note(spec.opt("block"), f.width)] if n]
     g, p = generate_propagate(f)
     return f, block_bounds(sizes), g, p
 

@@ -14,6 +14,7 @@ from __future__ import annotations
 
 from typing import Callable
 
+from ..ir.network import META_BLOCK_SIZES
 from ..spec.registry import Option, shown, suggest, type_name, value_text, yaml11_hint
 
 AUTO = "auto"
@@ -46,7 +47,7 @@ def block_option(default, doc: str, allow_auto: bool, scheme: str) -> Option:
             fail(f"'block' must be {forms}, got {type_name(v)}")
         return size(v, fail, "")
 
-    return Option("block", parse, default, doc)
+    return Option("block", parse, default, doc, resolved_as=META_BLOCK_SIZES, open_value=AUTO if allow_auto else None)
 
 
 def validate_block(spec) -> None:

@@ -11,6 +11,7 @@ never be sensitized. Those are the adder's false paths; ``netlist_levels`` count
 from dataclasses import replace
 
 from .blocksizes import AUTO, block_option, validate_block, skip_auto
+from ..ir.network import META_NOTE
 from ..spec.registry import scheme
 from .blockparts import begin, ripple_chain
 from .common import balanced, finish, sum_bits
@@ -42,5 +43,5 @@ def carry_skip(spec):
         carry = b.MUX(bp, c[-1], carry, f"skip{j}", "skip")
     net = finish(f, sum_bits(f, p, carries), carry)
     if any(n.role == "skip" for n in net.nodes):  # a bypass that reaches no output leaves no false path
-        net = replace(net, meta=net.meta + (("note", FALSE_PATHS),))
+        net = replace(net, meta=net.meta + ((META_NOTE, FALSE_PATHS),))
     return net

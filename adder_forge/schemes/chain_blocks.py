@@ -22,6 +22,7 @@ import math
 from dataclasses import dataclass
 
 from .blocksizes import AUTO, block_option, block_bounds, resolve, wide_note
+from ..ir.network import META_BLOCK_SIZES, META_NOTE
 from ..spec.registry import choice_option, value_text
 from .common import Frame, start
 
@@ -89,8 +90,8 @@ def begin(spec, auto_rule) -> tuple[Frame, list[tuple[int, int]]]:
     """Ports and the blocks' (lo, hi) bit ranges (recorded in the meta as ``block_sizes``)."""
     f = start(spec)
     sizes = resolve(spec.opt("block"), f.width, lambda n: auto_rule(spec, n))
-    f.build.meta.append(("block_sizes", value_text(sizes)))
-    f.build.meta += [("note", n) for n in [wide_note(spec.opt("block"), f.width)] if n]
+    f.build.meta.append((META_BLOCK_SIZES, value_text(sizes)))
+    f.build.meta += [(META_NOTE, n) for n in [wide_note(spec.opt("block"), f.width)] if n]
     return f, block_bounds(sizes)
 
 

@@ -13,6 +13,7 @@ a parameter (harris, knowles) are left out: their parameter depends on the block
 
 from __future__ import annotations
 
+from ..ir.network import META_BLOCK_NETWORK
 from . import chain_blocks as cb
 from .prefix_networks import NETWORKS, build, final_refs, prune
 from ..spec.registry import choice_option, scheme
@@ -63,5 +64,5 @@ def chain_prefix(spec):
     for j, ch in enumerate(chains, start=1):
         sums += cb.select_sums(f, val(last[j - 1])[0], ch)
     cout = val(last[m - 1])[0] if spec.carry_out else b.const(0)
-    b.meta.append(("block_network", graph.style))
+    b.meta.append((META_BLOCK_NETWORK, graph.style))
     return finish(f, sums, cout)

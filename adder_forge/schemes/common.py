@@ -6,7 +6,7 @@ from dataclasses import dataclass
 
 from ..ir.builder import Builder
 from ..ir.interface import Interface, of_spec
-from ..ir.network import Network, PrefixGraph
+from ..ir.network import META_SCHEME, Network, PrefixGraph
 from ..spec.registry import value_text
 
 
@@ -31,7 +31,7 @@ def start(spec) -> Frame:
     a = build.input("a", spec.width)
     b = build.input("b", spec.width)
     cin = build.input("cin", 1, scalar=True)[0] if iface.has("cin") else build.const(0)
-    build.meta.append(("scheme", spec.scheme))
+    build.meta.append((META_SCHEME, spec.scheme))
     for k, v in spec.options:
         if v is not None:  # keys that do not apply to this form (e.g. taxonomy for kogge-stone)
             build.meta.append((k, value_text(v)))

@@ -21,8 +21,10 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from ..ir.network import META_BLOCK_SIZES, META_NOTE
 from ..base.errors import NetworkError, SpecError
-from ..spec.registry import Option, choice_option, scheme, shown, type_name, value_text
+from ..spec.registry import (Description, Option, changed_keys, choice_option, label_of, scheme, schemes, shown,
+                             spec_keys, type_name, value_text)
 from . import network_file
 from .blocksizes import block_option, validate_block, resolve, block_bounds, wide_note
 from .prefix_networks import NETWORKS, build, final_refs, param_levels, prune, validate
@@ -157,7 +159,21 @@ def network_for(spec, full=None):
     return prune(full, [s - 1 + ci for s in bounds], style), sizes
 
 
-@scheme("prefix", options=OPTIONS, validate=validate_prefix,
+def describe_prefix(spec, resolved) -> Description:
+    """The network first, always (kogge-stone is a choice, not a detail), with its parameter list or file;
+    then the keys that differ from their default (block, ling)."""
+    sch = schemes()["prefix"]
+    net = spec.opt("prefix")
+    if net == FROM_FILE:
+        first = f"file {shown(spec.opt('network'))}"
+    else:
+        param = NETWORKS[net].param
+        first = net + (f" {value_text(spec.opt(param))}" if param and spec.opt(param) is not None else "")
+    rest = changed_keys(sch, spec, skip=("prefix", "network", "taxonomy", "fanouts"))
+    return Description(label_of("prefix", [first, *rest]), spec_keys(sch, spec, resolved))
+
+
+@scheme("prefix", options=OPTIONS, validate=validate_prefix, describe=describe_prefix,
         doc="parallel-prefix: Kogge-Stone, Brent-Kung, Sklansky, Han-Carlson, Ladner-Fischer, Knowles, the "
             "Harris (l, f, t) taxonomy, any network from a file; sparse trees with carry-select sums; Ling carries")
 def prefix_adder(spec):
@@ -173,8 +189,8 @@ def adder_with_network(spec, full=None):
     ling = spec.opt("ling")
     graph, sizes = network_for(spec, full)
     if any(s > 1 for s in sizes):
-        b.meta.append(("block_sizes", value_text(sizes)))
-    b.meta += [("note", n) for n in [wide_note(spec.opt("block"), spec.width)] if n]
+        b.meta.append((META_BLOCK_SIZES, value_text(sizes)))
+    b.meta += [(META_NOTE, n) for n in [wide_note(spec.opt("block"), spec.width)] if n]
     g, p = generate_propagate(f)
     gen = [f.cin] * ci + g
     t = None

@@ -21,7 +21,7 @@ RESERVED_SUFFIX = "_tb"  # NAME_tb is the testbench module (and file) of NAME
 # The iCE40 cell library that Yosys's synth_ice40 reads beside the design (SB_LUT4, SB_CARRY, ...,
 # ICESTORM_LC): a module of that name is a re-definition there. Case-sensitive, as Verilog is.
 CELL_LIBRARY_PREFIXES = ("SB_", "ICESTORM_")
-DERIVED_SUFFIXES = ("_tb", "_plus", "__reference")  # testbench, report's + baseline, the proof's reference
+DERIVED_SUFFIXES = ("_tb", "__reference")  # the testbench, the proof's reference
 MAX_NAME = 128  # file names are the name plus a suffix; most file systems stop at 255 bytes
 MAX_SPEC_BYTES = 16 << 20  # a spec is a few lines; this bounds what a mistaken path can make us read
 
@@ -87,7 +87,7 @@ def make_spec(name: str, width: int, scheme: str, carry_in: bool = True, carry_o
     if form != "flat":
         data["form"] = form
     data.update({k.replace("__", "-"): v for k, v in options.items()})
-    # The tool's own specs (the report's NAME_plus baseline) may run past a user's limit by their suffix.
+    # The tool's own specs (explore's variants, say) may run past a user's limit by a derived suffix.
     return from_mapping(data, source, {}, max_name=MAX_NAME + max(map(len, DERIVED_SUFFIXES)))
 
 
@@ -344,7 +344,7 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
 def check_names(specs: list[Spec]) -> None:
     """Names of several specs in one command must not clash: not the same (ignoring case, since their files
     share folders on case-insensitive file systems), and none the name the tool derives from another
-    (NAME_tb, NAME_plus, NAME__reference). Raises a SpecError at the later spec's name."""
+    (NAME_tb, NAME__reference). Raises a SpecError at the later spec's name."""
     seen: dict[str, Spec] = {}
     for s in specs:
         key = s.name.lower()

@@ -59,6 +59,10 @@ class Option:
     default: Any
     doc: str
     choices: tuple = ()  # the values of a key that names one of a fixed set (a sweep can take each in turn)
+    # A key whose value can leave something open (block: auto) names the fact the scheme records in the
+    # network's meta once it has decided (block_sizes); summaries show it beside the key.
+    resolved_as: str = ""
+    open_value: Any = None
 
 
 @dataclass(frozen=True)
@@ -69,18 +73,71 @@ class Scheme:
     doc: str = ""
     max_width: int = MAX_WIDTH
     validate: Callable[..., None] | None = None  # (Spec) -> None; raises spec.error(...) for cross-key rules
+    # (Spec, resolved) -> Description, for a scheme whose short label says more than its non-default keys
+    describe_with: Callable[..., "Description"] | None = None
+
+    def describe(self, spec, resolved: dict | None = None) -> "Description":
+        """What the spec's adder is, in words: summaries and reports call this and know no scheme's keys.
+        ``resolved`` holds what the scheme decided that the spec left open (meta facts, e.g. block_sizes)."""
+        resolved = dict(resolved or {})
+        if self.describe_with is not None:
+            return self.describe_with(spec, resolved)
+        return Description(label_of(self.name, changed_keys(self, spec)), spec_keys(self, spec, resolved))
+
+
+@dataclass(frozen=True)
+class Description:
+    """``label``: short, for a table row ("prefix (kogge-stone)", "carry-skip (block [4, 8, 8, 4])");
+    ``keys``: every key that shapes the adder as (key, text), carry ports first, with what the scheme
+    resolved beside an open value ("block", "auto ([4, 4])")."""
+
+    label: str
+    keys: tuple[tuple[str, str], ...]
+
+
+def spec_keys(sch: Scheme, spec, resolved: dict) -> tuple[tuple[str, str], ...]:
+    out = [("carry_in", value_text(spec.carry_in)), ("carry_out", value_text(spec.carry_out))]
+    for o in sch.options:
+        v = spec.opt(o.key)
+        if v is None:  # a key that does not apply to this form (taxonomy for kogge-stone)
+            continue
+        text = value_text(v)
+        if o.resolved_as and v == o.open_value and o.resolved_as in resolved:
+            text += f" ({resolved[o.resolved_as]})"
+        out.append((o.key, text))
+    return tuple(out)
+
+
+def changed_keys(sch: Scheme, spec, skip=()) -> list[str]:
+    """The scheme's keys whose value differs from the default, in words: 'ling', 'block [4, 8]'."""
+    out = []
+    for o in sch.options:
+        v = spec.opt(o.key)
+        if o.key in skip or v is None or v == o.default:
+            continue
+        if isinstance(v, bool):
+            out.append(o.key if v else f"no {o.key}")
+        else:
+            out.append(f"{o.key} {value_text(v)}")
+    return out
+
+
+def label_of(name: str, parts: list[str]) -> str:
+    return f"{name} ({', '.join(parts)})" if parts else name
 
 
 SCHEMES: dict[str, Scheme] = {}
 
 
-def scheme(name: str, *, options=(), doc: str = "", max_width: int = MAX_WIDTH, validate=None):
-    """Register ``fn(spec) -> Network`` as the construction of carry scheme ``name``."""
+def scheme(name: str, *, options=(), doc: str = "", max_width: int = MAX_WIDTH, validate=None, describe=None):
+    """Register ``fn(spec) -> Network`` as the construction of carry scheme ``name``. ``describe(spec,
+    resolved) -> Description`` replaces the default label (the scheme and its non-default keys)."""
 
     def deco(fn):
         if name in SCHEMES:
             raise ValueError(f"scheme {name} registered twice")
-        SCHEMES[name] = Scheme(name, fn, tuple(options), doc or (fn.__doc__ or "").strip(), max_width, validate)
+        SCHEMES[name] = Scheme(name, fn, tuple(options), doc or (fn.__doc__ or "").strip(), max_width, validate,
+                               describe)
         return fn
 
     return deco

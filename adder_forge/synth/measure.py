@@ -27,7 +27,7 @@ from ..base.errors import OutputConflict, OutputError, ToolError
 from ..base.records import FIELDS, Figure, Record, csv_text, digest_of, from_dict, make_records, strip, values
 from ..emit.design import Design, design
 from ..emit.outputs import Folder, check_replaceable, fingerprint, read_manifest, sha256_text, update_files, write_folders
-from ..emit.summary import to_json
+from ..emit.summary import description, to_json
 from ..spec.loader import Spec, make_spec
 from .flows import FLOWS, get_flow, require, synthesize, tool_version
 
@@ -68,6 +68,7 @@ class Figures:
     digest: str
     records: tuple[Record, ...]
     details: dict = field(default_factory=dict, compare=False)
+    label: str = ""  # the scheme's short description of the design (Scheme.describe)
 
     def values(self) -> dict[str, int | float]:
         return values(self.records, self.digest)
@@ -107,7 +108,7 @@ def measure_design(d: Design, flows: Iterable[str], say: Callable[[str], None] |
         seed = raw.get("seed") if isinstance(raw.get("seed"), int) else None
         recs += make_records(spec.name, digest, fl, flow.figures, raw, flow.main_tool, tool_version, seed)
         details[fl] = strip(raw, flow.figures)
-    return Figures(spec.name, digest, tuple(recs), details)
+    return Figures(spec.name, digest, tuple(recs), details, description(spec, d.net.meta).label)
 
 
 def baseline_spec(spec: Spec) -> Spec:
@@ -131,8 +132,8 @@ class Measured:
 
     @property
     def label(self) -> str:
-        net = self.spec.opt("prefix")
-        return f"{self.spec.scheme} ({net})" if net else self.spec.scheme
+        """The scheme's own short description ("prefix (kogge-stone)", "carry-skip (block [4, 8, 8, 4])")."""
+        return self.figures.label or self.spec.scheme
 
     def versus_plus(self) -> dict:
         return compare(self.figures.values(), self.plus.values(), self.flows)
