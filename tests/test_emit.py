@@ -23,7 +23,8 @@ def test_same_spec_same_bytes(tmp_path, capsys):
     assert main(["build", str(spec), "--out", str(tmp_path / "o2")]) == 0
     assert main(["build", str(spec), "--out", str(tmp_path / "o1")]) == 0  # rebuilt in place
     names = sorted(p.name for p in (tmp_path / "o1" / "again16").iterdir())
-    assert names == [".adder_forge_manifest.json", "again16.json", "again16.v", "again16_tb.v", "again16_vectors.hex"]
+    assert names == [".adder_forge_manifest.json", "again16.f", "again16.json", "again16.v", "again16_inst.v", "again16_tb.v",
+                     "again16_vectors.hex"]
     for n in names:
         assert (tmp_path / "o1" / "again16" / n).read_bytes() == (tmp_path / "o2" / "again16" / n).read_bytes()
 

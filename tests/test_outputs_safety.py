@@ -18,7 +18,7 @@ from adder_forge.emit.outputs import MANIFEST, STAGE_PREFIX, Folder, write_folde
 from adder_forge.spec.loader import load_spec
 
 SPEC = "name: {name}\nwidth: {width}\nscheme: ripple\n"
-BUILT = ("{n}.v", "{n}_tb.v", "{n}_vectors.hex", "{n}.json")
+BUILT = ("{n}.v", "{n}_tb.v", "{n}_vectors.hex", "{n}.json", "{n}.f", "{n}_inst.v")
 
 
 def run(argv, capsys):

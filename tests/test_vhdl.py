@@ -256,7 +256,8 @@ def test_build_writes_vhdl_only_when_asked(tmp_path):
     r = _cli("build", str(spec), "--out", "o3", "--hdl", "verilog,vhdl", cwd=tmp_path)
     assert r.returncode == 0, r.stderr
     files = sorted(p.name for p in (tmp_path / "o3" / "acc12").iterdir() if not p.name.startswith("."))
-    assert files == ["acc12.json", "acc12.v", "acc12.vhd", "acc12_tb.v", "acc12_tb.vhd", "acc12_vectors.hex"]
+    assert files == ["acc12.f", "acc12.json", "acc12.v", "acc12.vhd", "acc12_inst.v", "acc12_tb.v", "acc12_tb.vhd",
+                     "acc12_vectors.hex"]
     vhd = (tmp_path / "o3" / "acc12" / "acc12.vhd").read_text()
     assert "entity acc12 is" in vhd and "cin  : in  std_logic;" in vhd
     assert "sum  : out std_logic_vector(11 downto 0);" in vhd

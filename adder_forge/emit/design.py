@@ -34,6 +34,12 @@ class Design:
     def files(self) -> dict[str, str]:
         n = self.spec.name
         out = {f"{n}.v": self.verilog, f"{n}_tb.v": self.testbench.verilog} if "verilog" in self.hdl else {}
+        if "verilog" in self.hdl:  # for the user's build: what to compile, and how to instantiate it
+            from ..base.version import __version__
+            from .build_files import file_list, instantiation
+
+            out[f"{n}.f"] = file_list([f"{n}.v"])
+            out[f"{n}_inst.v"] = instantiation(self.net, __version__)
         if "vhdl" in self.hdl:
             from .vhdl import vhdl_files
 
@@ -43,7 +49,10 @@ class Design:
         return out
 
     def summary(self, extra: dict | None = None) -> dict:
-        tb = {"testbench": {"vectors": self.testbench.count, "plan": self.plan}}
+        iface = self.net.iface
+        tb = {"ports": [{"name": p.name, "direction": p.direction, "width": p.width} for p in iface.pins],
+              "latency": iface.latency, "claim": iface.claim(),
+              "testbench": {"vectors": self.testbench.count, "plan": self.plan}}
         tb.update(extra or {})
         return design_summary(self.spec, self.metrics, tb, self.net.meta)
 

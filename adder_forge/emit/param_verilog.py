@@ -69,6 +69,10 @@ def check(spec: Spec) -> None:
     if spec.scheme not in FORMS:
         raise spec.error("form", f"'form: {FORM}' is not available for scheme '{spec.scheme}' "
                                  f"(available for: {supported()}); use 'form: flat'")
+    if spec.operation != "add":
+        raise spec.error("operation", f"'form: {FORM}' adds only; 'operation: {spec.operation}' needs 'form: flat'")
+    if spec.overflow:
+        raise spec.error("overflow", f"'form: {FORM}' has no overflow output; use 'form: flat' for 'overflow: true'")
     if spec.scheme == "prefix":
         if spec.opt("prefix") not in PREFIX_NETWORKS:
             raise spec.error("prefix", f"'form: {FORM}' has no rule for 'prefix: {spec.opt('prefix')}' "

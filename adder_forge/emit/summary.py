@@ -77,7 +77,10 @@ def design_summary(spec: Spec, metrics: dict, extra: dict | None = None, meta=()
         "block": d.get("block"),
         "carry_in": spec.carry_in,
         "carry_out": spec.carry_out,
-        "options": {k: v for k, v in d.items() if k not in ("name", "width", "scheme", "carry_in", "carry_out")},
+        "operation": spec.operation,
+        "overflow": spec.overflow,
+        "options": {k: v for k, v in d.items()
+                    if k not in ("name", "width", "scheme", "carry_in", "carry_out", "operation", "overflow")},
         "resolved": resolved(spec, meta),
         "metrics": metrics,
         "caution": CAUTION,

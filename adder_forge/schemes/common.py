@@ -12,8 +12,10 @@ from ..spec.registry import value_text
 
 @dataclass
 class Frame:
-    """The ports of one adder under construction: ``build`` is its Builder, ``a`` and ``b`` the operand bits;
-    ``cin`` is constant 0 when the spec has no carry-in."""
+    """The ports of one adder under construction, as the carry network sees them: ``build`` is its Builder,
+    ``a`` operand a, ``b`` the addend (operand b; ~b for subtract, b ^ sub for add-subtract) and ``cin``
+    the carry into the network (the carry-in port, else 0 for add, 1 for subtract, ``sub`` for
+    add-subtract). Schemes build on these alone, so every scheme gets every operation from one network."""
 
     build: Builder
     a: list[int]
@@ -25,12 +27,21 @@ class Frame:
 
 
 def start(spec) -> Frame:
-    """The input ports of the spec's interface, in its order."""
+    """The input ports of the spec's interface, in its order, and the operand conditioning."""
     iface = of_spec(spec)
     build = Builder(spec.name)
     a = build.input("a", spec.width)
-    b = build.input("b", spec.width)
-    cin = build.input("cin", 1, scalar=True)[0] if iface.has("cin") else build.const(0)
+    raw = build.input("b", spec.width)
+    cin = build.input("cin", 1, scalar=True)[0] if iface.has("cin") else None
+    sub = build.input("sub", 1, scalar=True)[0] if iface.has("sub") else None
+    if iface.operation == "add":
+        b = raw
+    elif iface.operation == "subtract":  # a - b = a + ~b + 1
+        b = [build.NOT(x, f"nb{i}", "operand") for i, x in enumerate(raw)]
+    else:  # one network for both: b ^ sub into generate/propagate, and sub as the +1 of subtraction
+        b = [build.XOR(x, sub, f"bx{i}", "operand") for i, x in enumerate(raw)]
+    if cin is None:  # the carry into the network without a carry-in port: 0, subtraction's 1, or sub
+        cin = sub if iface.operation == "add-subtract" else build.const(int(iface.operation == "subtract"))
     build.meta.append((META_SCHEME, spec.scheme))
     for k, v in spec.options:
         if v is not None:  # keys that do not apply to this form (e.g. taxonomy for kogge-stone)
@@ -50,10 +61,24 @@ def sum_bits(f: Frame, p: list[int], carries: list[int]) -> list[int]:
     return [f.build.XOR(p[i], carries[i], f"s{i}", "sum") for i in range(f.width)]
 
 
-def finish(f: Frame, sums: list[int], cout: int, prefix: PrefixGraph | None = None) -> Network:
+def finish(f: Frame, sums: list[int], cout: int, prefix: PrefixGraph | None = None,
+           carry_top: int | None = None) -> Network:
+    """The output ports. ``cout`` must be the network's carry out whenever the spec reads it
+    (``spec.network_carry_out``); ``carry_top``, the carry into the top bit, when the scheme has it.
+
+    Overflow is c_w ^ c_w-1, the carries out of and into the sign bit (common practice): with the
+    scheme's own carry into the top bit when it passes one (one XOR), else that carry recovered from the
+    top sum bit as s_w-1 ^ a_w-1 ^ y_w-1 (sparse trees and carry-select sums never form it; two more XORs).
+    """
     f.build.output("sum", sums)
     if f.interface.has("cout"):
         f.build.output("cout", [cout], scalar=True)
+    if f.interface.has("overflow"):
+        top = f.width - 1
+        if carry_top is None:
+            t = f.build.XOR(f.a[top], f.b[top], "ovp", "overflow")
+            carry_top = f.build.XOR(t, sums[top], "ctop", "overflow")
+        f.build.output("overflow", [f.build.XOR(cout, carry_top, "ovf", "overflow")], scalar=True)
     return f.build.finish(prefix, f.interface)
 
 

@@ -29,7 +29,7 @@ def lookahead(spec):
     else:
         carries = [f.cin] + [balanced(b, b.OR, _products(b, g, p, f.cin, i), f"c{i}", "carry")
                              for i in range(1, f.width + 1)]
-    return finish(f, sum_bits(f, p, carries), carries[f.width])
+    return finish(f, sum_bits(f, p, carries), carries[f.width], carry_top=carries[f.width - 1])
 
 
 def _products(b, g, q, cin: int, i: int) -> list[int]:

@@ -93,12 +93,21 @@ def file_network(spec):
         if exc.message in ("no such file", "is a folder, not a network file", "is not a regular file"):
             raise spec.error("network", f"network file {shown(spec.opt('network'))}: {exc.message}") from None
         raise
-    n = spec.width + spec.carry_in
+    n = spec.width + spec.network_carry_in
     if graph.inputs != n:
-        context = f" (width {spec.width} plus the carry-in)" if spec.carry_in else f" (width {spec.width})"
+        context = _inputs(spec) or f" (width {spec.width})"
         raise spec.error("network", f"network file {shown(spec.opt('network'))} has {graph.inputs} inputs, but this adder "
                                     f"needs {n}{context}")
     return graph
+
+
+def _inputs(spec) -> str:
+    """What the prefix inputs are beyond the width, for messages ('' when there is no carry-in column)."""
+    if spec.carry_in:
+        return f" (width {spec.width} plus the carry-in)"
+    if spec.network_carry_in:
+        return f" (width {spec.width} plus the carry into the network, which '{spec.operation}' has)"
+    return ""
 
 
 def validate_prefix(spec) -> None:
@@ -120,8 +129,8 @@ def validate_prefix(spec) -> None:
             raise spec.error(key, f"'{key}' applies only to 'prefix: {owner}', not to 'prefix: {kind.name}'")
     if kind.param is None:
         return
-    n = spec.width + spec.carry_in
-    context = f" (width {spec.width} plus the carry-in)" if spec.carry_in else ""
+    n = spec.width + spec.network_carry_in
+    context = _inputs(spec)
     value = spec.opt(kind.param)
     if value is None:
         L = param_levels(n)
@@ -137,12 +146,12 @@ def validate_prefix(spec) -> None:
 def network_for(spec, full=None):
     """The spec's prefix graph (or ``full``, any legal network over width + carry_in inputs), pruned to the
     carries the sum stage and the carry out read."""
-    ci = int(spec.carry_in)
+    ci = int(spec.network_carry_in)
     if full is not None:
         validate(full)
         if full.inputs != spec.width + ci:
             raise NetworkError(f"{full.style}: {full.inputs} inputs, but a {spec.width}-bit adder "
-                               f"{'with' if ci else 'without'} carry-in needs {spec.width + ci}")
+                               f"{'with' if ci else 'without'} a carry into its network needs {spec.width + ci}")
     elif spec.opt("prefix") == FROM_FILE:
         full = file_network(spec)
     else:
@@ -150,7 +159,7 @@ def network_for(spec, full=None):
         full = build(kind.name, spec.width + ci, spec.opt(kind.param) if kind.param else None)
     block = spec.opt("block")
     sizes = resolve(block, spec.width)
-    bounds = [lo for lo, _ in block_bounds(sizes)[1:]] + ([spec.width] if spec.carry_out else [])
+    bounds = [lo for lo, _ in block_bounds(sizes)[1:]] + ([spec.width] if spec.network_carry_out else [])
     style = full.style
     if any(s > 1 for s in sizes):
         style += f", block {block if isinstance(block, int) else value_text(block)}"
@@ -185,7 +194,7 @@ def adder_with_network(spec, full=None):
     graph (a searched one, say) over width + carry_in inputs. Block and Ling keys apply as usual."""
     f = start(spec)
     b = f.build
-    ci = int(spec.carry_in)
+    ci = int(spec.network_carry_in)
     ling = spec.opt("ling")
     graph, sizes = network_for(spec, full)
     if any(s > 1 for s in sizes):
@@ -229,5 +238,7 @@ def adder_with_network(spec, full=None):
             continue
         cond = conditional(b, f.a, f.b, g, p, lo, hi)
         sums += [select(b, cb, cond.s0[i - lo], cond.s1[i - lo], f"s{i}") for i in range(lo, hi)]
-    cout = carry_into(f.width) if spec.carry_out else b.const(0)
-    return finish(f, sums, cout, prefix=graph)
+    cout = carry_into(f.width) if spec.network_carry_out else b.const(0)
+    top = block_bounds(sizes)[-1]
+    carry_top = (f.cin if f.width == 1 else carry_into(f.width - 1)) if top[1] - top[0] == 1 else None
+    return finish(f, sums, cout, prefix=graph, carry_top=carry_top)

@@ -11,4 +11,4 @@ def ripple(spec):
     carries = [f.cin]
     for i in range(f.width):
         carries.append(f.build.AO21(p[i], carries[i], g[i], f"c{i + 1}", "carry"))
-    return finish(f, sum_bits(f, p, carries), carries[f.width])
+    return finish(f, sum_bits(f, p, carries), carries[f.width], carry_top=carries[f.width - 1])

@@ -26,11 +26,14 @@ MAX_NAME = 128  # file names are the name plus a suffix; most file systems stop 
 MAX_SPEC_BYTES = 16 << 20  # a spec is a few lines; this bounds what a mistaken path can make us read
 
 # Keys every spec may carry; a scheme declares the rest (registry.Option).
-COMMON_KEYS = ("name", "width", "scheme", "carry_in", "carry_out", "form")
+COMMON_KEYS = ("name", "width", "scheme", "carry_in", "carry_out", "form", "operation", "overflow")
 # The shapes NAME.v can take: one module fixed to the spec's width, gate by gate (flat), or one module with
 # a WIDTH parameter whose generate loops build the same structure at any width (emit/param_verilog.py,
 # which also says which schemes have that form).
 FORMS = ("flat", "parameterized")
+OPERATIONS = ("add", "subtract", "add-subtract")  # what the adder computes (ir/interface.py says how)
+_OPERATION_ALIASES = {"sub": "subtract", "minus": "subtract", "addsub": "add-subtract", "add_subtract": "add-subtract",
+                      "add/subtract": "add-subtract", "add-sub": "add-subtract", "plus": "add"}
 
 
 @dataclass(frozen=True)
@@ -44,6 +47,18 @@ class Spec:
     source: str = "<spec>"
     positions: tuple[tuple[str, int, int], ...] = ()  # key -> (line, col) of its value, 1-based
     form: str = "flat"  # FORMS
+    operation: str = "add"  # add, subtract or add-subtract
+    overflow: bool = False  # an output for signed two's-complement overflow
+
+    @property
+    def network_carry_in(self) -> bool:
+        """Whether a carry enters the carry network: the carry-in port, or subtraction's +1 (or ``sub``)."""
+        return self.carry_in or self.operation != "add"
+
+    @property
+    def network_carry_out(self) -> bool:
+        """Whether the network's carry out is read: the cout port, or the overflow output."""
+        return self.carry_out or self.overflow
 
     def opt(self, key: str, default: Any = None) -> Any:
         for k, v in self.options:
@@ -67,6 +82,10 @@ class Spec:
     def to_dict(self) -> dict[str, Any]:
         d: dict[str, Any] = {"name": self.name, "width": self.width, "scheme": self.scheme,
                              "carry_in": self.carry_in, "carry_out": self.carry_out}
+        if self.operation != "add":  # the plain adder's files read as before
+            d["operation"] = self.operation
+        if self.overflow:
+            d["overflow"] = True
         for k, v in self.options:
             d[k] = _plain(v)
         if self.form != "flat":  # only when asked for, so flat reports and headers read as before
@@ -315,12 +334,17 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
         fail_at("width", f"'width' must be between 1 and {limit}{why}, got {shown(width)}")
 
     flags = {}
-    for key in ("carry_in", "carry_out"):
-        opt = bool_option(key, True, "")
+    for key, default in (("carry_in", True), ("carry_out", True), ("overflow", False)):
+        opt = bool_option(key, default, "")
         if key in data:
             flags[key] = opt.parse(data[key], lambda m, k=key: fail_at(k, m))
         else:
-            flags[key] = True
+            flags[key] = default
+    operation = data.get("operation", "add")
+    if not isinstance(operation, str):
+        fail_at("operation", f"'operation' must be one of {', '.join(OPERATIONS)}, got {type_name(operation)}")
+    if operation not in OPERATIONS:
+        fail_at("operation", f"unknown operation '{shown(operation)}'" + suggest(operation, OPERATIONS, _OPERATION_ALIASES))
 
     form = "flat"
     if "form" in data:
@@ -335,7 +359,7 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
 
     positions = tuple((k, *pos[k]) for k in data if k in pos)
     spec = Spec(name, width, scheme_name, flags["carry_in"], flags["carry_out"], tuple(options), source, positions,
-                form)
+                form, operation, flags["overflow"])
     if sch.validate is not None:
         sch.validate(spec)
     return spec
