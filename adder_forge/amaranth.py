@@ -138,16 +138,17 @@ class AdderComponent(wiring.Component):
 
 
 def _check_supported(net: Network) -> None:
-    if clocking(net).reset == "async":
-        # Amaranth gives a domain's asynchronous reset to the domain (ClockDomain(async_reset=True)), not to
-        # a port; an rst port that clears registers asynchronously has no faithful translation here.
-        raise UnsupportedForm("the Amaranth form takes a sync reset only (its registers are in the sync "
-                              "domain); use 'pipeline.reset: sync', or no reset and the domain's own", net.name)
     for i, n in enumerate(net.nodes):
         if n.op not in GATES and n.op not in _LEAVES and getattr(CELLS.get(n.op), "kind", "") != "register":
             valid = ", ".join(sorted(GATES | _LEAVES))
             raise UnsupportedForm(f"the Amaranth form has no translation for cell {n.op} (node "
                                   f"{n.name or i}); it handles {valid}", net.name)
+    # Unknown cells first: reading the clocking looks every cell up in the table.
+    if clocking(net).reset == "async":
+        # Amaranth gives a domain's asynchronous reset to the domain (ClockDomain(async_reset=True)), not to
+        # a port; an rst port that clears registers asynchronously has no faithful translation here.
+        raise UnsupportedForm("the Amaranth form takes a sync reset only (its registers are in the sync "
+                              "domain); use 'pipeline.reset: sync', or no reset and the domain's own", net.name)
 
 
 def component_from_network(net: Network, spec: Spec | None = None) -> AdderComponent:
