@@ -57,7 +57,7 @@ def _parser() -> argparse.ArgumentParser:
 
     r = sub.add_parser("report", help="estimates and synthesis figures, beside the plain + baseline")
     r.add_argument("specs", nargs="+", metavar="SPEC")
-    r.add_argument("--synth", default="", metavar="FLOWS", help="comma list of generic, lut6, ice40")
+    r.add_argument("--synth", default="", metavar="FLOWS", help="comma list of generic, lut6, ice40, ecp5")
     r.add_argument("--out", default="out", metavar="DIR")
     r.add_argument("--csv", metavar="FILE", help="also write every measurement record (specs and + baselines) to FILE")
     r.add_argument("--force", action="store_true",

