@@ -387,8 +387,12 @@ def cmd_explore(args) -> int:
     print(f"{sw.name}: {len(sw.points)} adders ({len(sw.labels)} variants incl. + x {len(sw.widths)} widths), "
           f"figures {', '.join(sw.figures)}; {out.computed} tasks computed, {out.cached} from the cache"
           + (f", {out.failed} failed" if out.failed else ""))
+    skipped: dict[str, list] = {}
     for s in sw.skipped:
-        print(f"  skipped {s.label} at {s.width} bits: {s.reason}")
+        skipped.setdefault(s.label, []).append(s)
+    for label, items in skipped.items():  # one line a variant: the reason at its first width
+        widths = ", ".join(str(s.width) for s in items)
+        print(f"  not built: {label} at {widths} bits ({items[0].reason}{', ...' if len(items) > 1 else ''})")
     from .explore.run import CHECK, check_text
 
     bad = [(p, check_text(out.entries.get((p.spec.name, CHECK)))) for p in sw.points]

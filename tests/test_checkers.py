@@ -176,7 +176,7 @@ def test_parse_reads_only_its_own_name():
     ("add4: 512 passed, 0 failed, 3 skipped\n", "no result"),
     ("add4: x passed, x failed\n", "malformed summary line: x passed, x failed"),  # an X count
     ("add4: -1 passed, 0 failed\n", "malformed summary line"),
-    ("add4: 512 passed, 0 failed\nadd4: 512 passed, 0 failed\n", "more than one summary line"),
+    ("add4: 512 passed, 0 failed\nadd4: 512 passed, 0 failed\n", "2 summary lines"),
     ("add4: VECTORS ERROR cannot open add4_vectors.hex\n", "no result (exit 1): add4: VECTORS ERROR cannot open"),
     ("add4: BAD LINE 7: not all 0/1 (X, U, Z or a non-hex digit)\nadd4: 511 passed, 1 failed\n", "BAD LINE 7"),
 ])
@@ -325,3 +325,14 @@ def test_cocotb_through_the_registry_catches_a_broken_adder(tmp_path):
     assert found.stopped is None and not builtin.ok
     assert cocotb.checker == "cocotb-icarus" and not cocotb.ok and cocotb.exit_status != 0
     assert cocotb.failed > 0 and cocotb.detail.startswith("first failing vector: ")
+
+
+def test_the_readme_tour_shows_a_row_for_every_checker():
+    """`--sim all --formal` in the README's tour: one row a checker, in registry order (rerun the tour and
+    paste its real output when a checker is added)."""
+    readme = (Path(__file__).resolve().parent.parent / "README.md").read_text(encoding="utf-8")
+    block = readme.split("$ .venv/bin/adder-forge verify specs/alu_ks32.yaml --sim all --formal\n", 1)[1]
+    block = block.split("```", 1)[0].strip().splitlines()
+    assert [line.split()[1] for line in block[:-1]] == list(CHECKERS)
+    assert all(line.split()[2] == "pass" for line in block[:-1])
+    assert block[-1] == f"{len(CHECKERS)} passed, 0 failed"

@@ -23,6 +23,8 @@ CONFIGS = [
     ("pv_rip", "ripple", dict(carry_in=True, carry_out=True)),
     ("pv_rip00", "ripple", dict(carry_in=False, carry_out=False)),
     ("pv_beh", "behavioral", dict(carry_in=True, carry_out=False)),
+    ("pv_cs", "carry-select", dict(block=3, carry_out=False)),
+    ("pv_cs4", "carry-select", dict(block=4, carry_in=False)),
     ("pv_ks", "prefix", dict(prefix="kogge-stone")),
     ("pv_sk", "prefix", dict(prefix="sklansky", carry_in=False)),
     ("pv_bk", "prefix", dict(prefix="brent-kung", carry_out=False)),
@@ -63,6 +65,7 @@ UNSUPPORTED = [
      ["no rule for 'prefix: knowles'"]),
     ("scheme: prefix\nblock: 4\nform: parameterized\n", "4:8", ["dense prefix networks only"]),
     ("scheme: prefix\nling: true\nform: parameterized\n", "4:7", ["no Ling form"]),
+    ("scheme: carry-select\nblock: auto\nform: parameterized\n", "4:8", ["needs a number of bits a block"]),
 ]
 
 

@@ -68,22 +68,22 @@ class Report:
 def parse(text: str, name: str) -> Report:
     """The lines of ``text`` about design ``name``. A line counts when the name stands at its start or after
     white space (cocotb puts its log prefix before it), so ``alu`` never reads ``my_alu``'s lines."""
-    passed = failed = first = problem = None
+    summaries: list[tuple[int, int]] = []
+    first = problem = None
     for m in re.finditer(rf"(?:^|[ \t]){re.escape(name)}: (.*?)\r?$", text, re.M):
         rest = m.group(1)
         s = _SUMMARY.fullmatch(rest)
         if s:
-            if passed is not None:
-                problem = problem or f"{name}: more than one summary line"
-            passed, failed = int(s.group(1)), int(s.group(2))
+            summaries.append((int(s.group(1)), int(s.group(2))))
         elif rest.startswith("MISMATCH "):
             first = first or rest[len("MISMATCH "):].strip()
         elif rest.startswith(PROBLEMS):
             problem = problem or f"{name}: {rest.strip()}"
         elif _LOOKS_LIKE_SUMMARY.match(rest):
             problem = problem or f"{name}: malformed summary line: {rest.strip()}"
-    if problem and problem.endswith("more than one summary line"):
-        passed = failed = None  # two verdicts: trust neither
+    if len(summaries) > 1:  # two verdicts: trust neither
+        return Report(None, None, first, f"{name}: {len(summaries)} summary lines")
+    passed, failed = summaries[0] if summaries else (None, None)
     return Report(passed, failed, first, problem)
 
 

@@ -8,6 +8,10 @@ constant folding where the carry-in is absent, nothing that reaches no output. t
 and bench/param_widths.py check that with Yosys (cell counts by type and the longest path against the flat
 form at each width), by simulation at many widths against Python integer addition and by proofs against `+`.
 
+Carry-select (block k, the top block taking the remainder, as in the flat form) ripples block 0 from the
+carry-in and every other block twice, for carry-in 0 and 1, picking with the carry into the block
+(Bedrij 1962, "Carry-select adder"). Not yet here: carry-skip and block-lookahead.
+
 Ports are those of the flat form; what the spec fixes other than the width (carry-in and carry-out ports, the
 prefix network, the block size) is fixed in the text. A block size is a number of bits at every width: when
 it does not divide WIDTH the top block takes the remainder, as in the flat form.
@@ -56,6 +60,7 @@ def _form(scheme: str, template: str, doc: str) -> None:
 
 _form("ripple", "param_ripple.v.j2", "ripple-carry, one carry cell a bit")
 _form("behavioral", "param_behavioral.v.j2", "one Verilog +")
+_form("carry-select", "param_carry_select.v.j2", "carry-select with a number of bits a block")
 _form("prefix", "param_prefix.v.j2", "prefix networks " + ", ".join(PREFIX_NETWORKS) + " (block 1, no ling)")
 
 
@@ -69,6 +74,9 @@ def check(spec: Spec) -> None:
     if spec.scheme not in FORMS:
         raise spec.error("form", f"'form: {FORM}' is not available for scheme '{spec.scheme}' "
                                  f"(available for: {supported()}); use 'form: flat'")
+    if spec.scheme in BLOCK_SCHEMES and (isinstance(spec.opt("block"), bool) or not isinstance(spec.opt("block"), int)):
+        raise spec.error("block", f"'form: {FORM}' needs a number of bits a block ('block: 4'), not "
+                                  f"'{spec.opt('block') if isinstance(spec.opt('block'), str) else 'a list'}'")
     if spec.operation != "add":
         raise spec.error("operation", f"'form: {FORM}' adds only; 'operation: {spec.operation}' needs 'form: flat'")
     if spec.overflow:

@@ -136,8 +136,9 @@ def explain(p: Picked) -> list[str]:
     what = "least area" if p.minimize == "area" else "least delay"
     if p.plus_wins:
         lines.append(f"use Verilog's +: {p.target} {fmt(w.target)} {tu}, {p.area} {fmt(w.area)} {au}")
-        lines.append(f"  why: within {p.target} {bound} {limit} {tu}, no generated adder has a {what} "
-                     f"better than what synthesis makes of +; write a + b and let the tool map it")
+        lines.append(f"  why: within {p.target} {bound} {limit} {tu}, no generated adder has "
+                     f"{'less area' if p.minimize == 'area' else 'less delay'} than what synthesis makes of +; "
+                     "write a + b and let the tool map it")
     else:
         lines.append(f"use {w.point.label}: {p.target} {fmt(w.target)} {tu}, {p.area} {fmt(w.area)} {au}")
         lines.append(f"  why: the {what} of the {len(p.ranked)} adder(s) within {p.target} {bound} {limit} {tu}")

@@ -69,6 +69,7 @@ def _axis_label(name: str) -> str:
 def pareto_plots(out: Outcome, files: dict) -> list[dict]:
     plt = _mpl()
     table = figure_table(out)
+    raw = figure_table(out, judged=False)
     style = _style(out.sweep.labels)
     made = []
     for entry in pareto(out):
@@ -80,12 +81,14 @@ def pareto_plots(out: Outcome, files: dict) -> list[dict]:
             continue
         fig, ax = plt.subplots(figsize=(9.0, 4.8), layout="constrained")
         front = set(entry["front"])
+        other = all_figures()[delay].shown_instead
         for p, x, y in pts:
             st = style[p.label]
             ok = passed(out, p)
+            note = f" ({other.replace('_', ' ')})" if other and raw[p.spec.name].get(other) is not None else ""
             ax.plot([y], [x], linestyle="none", marker=st["marker"], color=st["color"],
                     markersize=st["markersize"], markeredgecolor="black" if ok else "red",
-                    markeredgewidth=0.5 if ok else 2.0, label=p.label + ("" if ok else " (check FAILED)"))
+                    markeredgewidth=0.5 if ok else 2.0, label=p.label + note + ("" if ok else " (check FAILED)"))
         fr = sorted(((y, x) for p, x, y in pts if p.spec.name in front))
         if fr:
             sx, sy = [], []
@@ -100,15 +103,30 @@ def pareto_plots(out: Outcome, files: dict) -> list[dict]:
                     markerfacecolor="none", markeredgecolor="#d62728", markeredgewidth=1.2)
         ax.set_xlabel(_axis_label(delay))
         ax.set_ylabel(_axis_label(area))
+        areas = [x for _, x, _ in pts if x]
+        if areas and max(areas) > 8 * min(areas):  # a flat lookahead beside a ripple: a log scale
+            _log_axis(ax)
+        ax.margins(0.07)
         if all_figures()[delay].better == "higher":
             ax.invert_xaxis()  # faster to the left, as for every other delay figure
-        ax.set_title(f"{out.sweep.name}: {w}-bit adders, {area} against {delay} (lower left is better)")
+        ax.set_title(f"{out.sweep.name}, {w} bits: {area} against {delay}; lower left is better", fontsize=9)
         ax.grid(True, alpha=0.3)
         fig.legend(loc="outside right upper", frameon=False, numpoints=1)
         stem = f"pareto_w{w}_{delay}"
         _save(plt, fig, stem, files)
         made.append({"stem": stem, **entry})
     return made
+
+
+def _log_axis(ax) -> None:
+    """Area on a log scale (a flat lookahead is 20 times a ripple), labelled in plain numbers."""
+    from matplotlib.ticker import LogLocator, ScalarFormatter
+
+    ax.set_yscale("log")
+    ax.yaxis.set_major_locator(LogLocator(base=10, subs=(1.0, 2.0, 5.0)))
+    ax.yaxis.set_major_formatter(ScalarFormatter())
+    ax.yaxis.set_minor_formatter(ScalarFormatter())
+    ax.yaxis.set_minor_locator(LogLocator(base=10, subs=()))
 
 
 def width_plots(out: Outcome, files: dict) -> list[str]:
@@ -142,11 +160,7 @@ def width_plots(out: Outcome, files: dict) -> list[str]:
         ax.set_xticks(list(out.sweep.widths), [str(w) for w in out.sweep.widths])
         ax.minorticks_off()
         if is_area:
-            from matplotlib.ticker import ScalarFormatter
-
-            ax.set_yscale("log")
-            ax.yaxis.set_major_formatter(ScalarFormatter())
-            ax.yaxis.set_minor_formatter(ScalarFormatter())
+            _log_axis(ax)
         ax.set_xlabel("width (bits)")
         ax.set_ylabel(_axis_label(f.name))
         ax.set_title(f"{out.sweep.name}: {f.name} against width ({f.doc})", fontsize=9)

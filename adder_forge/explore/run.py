@@ -214,14 +214,27 @@ def records_of(out: Outcome, p: Point, family: str) -> list[Record]:
     return [from_dict({**r, "spec": p.spec.name}) for r in e["records"]]
 
 
-def figure_table(out: Outcome) -> dict[str, dict[str, float | int | None]]:
-    """spec name -> {figure: value}, every declared figure of every family swept (None where none)."""
+def figure_table(out: Outcome, judged: bool = True) -> dict[str, dict[str, float | int | None]]:
+    """spec name -> {figure: value}, every declared figure of every family swept (None where none).
+
+    ``judged``: a figure whose declaration names another to be ``shown_instead`` when an adder has it takes
+    that value (a carry-skip adder's unit-gate delay is its skip-aware one: the topological figure counts
+    ripple paths through the skip multiplexers that can never be sensitized). Fronts, plots and `pick` use
+    the judged figures; results.csv and the rows of results.json hold every record as measured."""
     table = {}
     for p in out.sweep.points:
         figs: dict = {}
+        instead = {}
         for fam in out.sweep.figures:
-            figs.update({f.name: None for f in family_figures(fam)})
+            for f in family_figures(fam):
+                figs[f.name] = None
+                if f.shown_instead:
+                    instead[f.name] = f.shown_instead
             figs.update({r.figure: r.value for r in records_of(out, p, fam)})
+        if judged:
+            for name, other in instead.items():
+                if figs.get(other) is not None:
+                    figs[name] = figs[other]
         table[p.spec.name] = figs
     return table
 
