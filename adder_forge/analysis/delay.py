@@ -57,8 +57,8 @@ from dataclasses import dataclass, field
 
 from ..ir.cells import CELLS, EffortCell, UnitGate, add_width
 from ..ir.network import Network
+from ..ir.arrival import Arrival, arrival, endpoints, starts
 from ..schemes.chain_blocks import FAMILIES, Family
-from .arrival import Arrival, arrival, output_bits
 from .skip_timing import has_skip, sensitizable_levels
 
 NOT_ESTIMATED = "the network holds ADD cells (Verilog +), whose structure the synthesis tool chooses"
@@ -83,7 +83,7 @@ def has_add(net: Network) -> bool:
     return any(n.op in ("ADD", "PICK") for n in net.nodes)
 
 
-_outputs = output_bits
+_outputs = endpoints  # output bits, and register data inputs in a pipelined network
 
 
 def _name(net: Network, i: int) -> str:
@@ -186,7 +186,7 @@ def logical_effort(net: Network, model: EffortModel = DEFAULT_MODEL) -> dict | N
         if n.op == "CONST":
             continue
         timed = [a for a in n.args if nodes[a].op != "CONST"]
-        if n.op == "INPUT" or not timed:
+        if starts(n) or not timed:  # an input bit or a register output: a path starts here
             live[i] = _Front({(0, 0): 0.0})
             continue
         cell = model.cells[n.op]
@@ -259,8 +259,8 @@ def fpga_delay(net: Network, family: str | Family) -> dict:
     cuts: list[list[frozenset]] = [[] for _ in nodes]
     bits: dict[int, list[tuple[float, int]]] = {}  # ADD node -> (arrival, LUT levels) of bits 0..k
     for i, n in enumerate(nodes):
-        if n.op in ("INPUT", "CONST"):
-            cuts[i] = [frozenset((i,))] if n.op == "INPUT" else [frozenset()]
+        if starts(n) or n.op == "CONST":  # an input bit or a register output is a LUT input
+            cuts[i] = [frozenset()] if n.op == "CONST" else [frozenset((i,))]
             continue
         if n.op == "ADD":
             k = add_width(len(n.args))

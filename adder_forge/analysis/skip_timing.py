@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from ..ir.cells import cell_levels
 from ..ir.network import Network
-from .arrival import SKIP, arrival, is_skip, output_bits
+from ..ir.arrival import SKIP, arrival, endpoints, is_skip
 
 __all__ = ["SKIP", "has_skip", "sensitizable_depth", "sensitizable_levels"]
 
@@ -31,4 +31,4 @@ def sensitizable_levels(net: Network, weight=cell_levels) -> int | None:
     if not has_skip(net):
         return None
     arr = sensitizable_depth(net, weight)
-    return max((arr[b] or 0 for b in output_bits(net)), default=0)
+    return max((arr[b] or 0 for b in endpoints(net)), default=0)

@@ -11,6 +11,10 @@ measure.py) that count something else: Yosys merges shared logic before it count
 - ``netlist_levels_skip_aware``: for adders with skip multiplexers, the longest path that can be sensitized
   (skip_timing.py); ``netlist_levels`` counts their false paths. None elsewhere.
 - ``netlist_max_fanout``: the most cell inputs and output-port bits one gate output drives.
+- ``pipeline_latency_cycles``, ``pipeline_stage_levels``, ``pipeline_registers`` (pipelined adders only):
+  the clock cycles from operands to result, the longest logic path of each stage (levels as above, from
+  one rank of registers, or the inputs, to the next), and the register bits; ``netlist_levels`` is then
+  the longest stage.
 - ``netlist_plus_cells``: Verilog ``+`` cells (ADD) in the netlist. Their structure is left to synthesis, so
   the figures above that would need it are None ("n/a: left to synthesis"), not a guess.
 """
@@ -21,7 +25,8 @@ from collections import Counter
 
 from ..ir.cells import GATES, cost_of, cell_levels
 from ..ir.network import META_NOTE, Network, meta_values
-from .arrival import arrival, output_bits
+from ..ir.pipeline import registers, stage_levels
+from ..ir.arrival import arrival, endpoints
 from .skip_timing import sensitizable_levels
 
 LEFT_TO_SYNTHESIS = "n/a: left to synthesis"  # how the netlist figures of a Verilog `+` are shown
@@ -38,7 +43,7 @@ def arrival_levels(net: Network) -> list[int]:
 
 def gate_levels(net: Network) -> int:
     a = arrival(net, _levels)
-    end = a.latest(output_bits(net))
+    end = a.latest(endpoints(net))
     return a.times[end] if end >= 0 else 0
 
 
@@ -83,4 +88,8 @@ def metrics(net: Network) -> dict:
 
         prefix.update(prefix_figures(net.prefix))
     m.update(prefix)
+    if registers(net):  # a pipelined adder: netlist_levels above is its longest stage
+        m["pipeline_latency_cycles"] = net.iface.latency
+        m["pipeline_stage_levels"] = stage_levels(net)
+        m["pipeline_registers"] = len(registers(net))
     return m

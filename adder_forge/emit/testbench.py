@@ -171,7 +171,13 @@ class Testbench:
     @property
     def duration(self) -> int:
         """Simulation time units the testbench needs for its vectors (the batch top waits this long)."""
-        return self.count * STEP + 2
+        clock = clocked_fields(self.iface)
+        if clock is None:
+            return self.count * STEP + 2
+        cycles = self.count + clock["latency"] + clock["reset_cycles"]
+        if clock["enable"]:
+            cycles += cycles // (clock["stall_every"] - 1) + 1
+        return (cycles + 1) * clock["period"] + 2
 
     def lines(self) -> Iterator[str]:
         return vector_lines(self.plan, self.iface, self.pick)
@@ -194,6 +200,20 @@ class Testbench:
 
 
 STEP = 1  # time units from applying a vector to comparing its result (the `settle` task)
+PERIOD = 10  # a pipelined adder's clock period in the testbench, time units
+STALL_EVERY, STALL_AT, RESET_CYCLES = 13, 5, 2  # as the built-in check drives them (checks/clocked.py)
+
+
+def clocked_fields(iface) -> dict | None:
+    """What the testbench template needs to drive a pipelined adder's clock, enable and reset (None for a
+    combinational one)."""
+    if not iface.latency:
+        return None
+    low = iface.reset_level == "low"
+    return {"latency": iface.latency, "period": PERIOD, "enable": iface.has("en"),
+            "reset": iface.reset if iface.reset != "none" else "", "active": "1'b0" if low else "1'b1",
+            "idle": "1'b1" if low else "1'b0", "reset_cycles": RESET_CYCLES if iface.reset != "none" else 0,
+            "stall_every": STALL_EVERY, "stall_at": STALL_AT}
 
 
 def port_fields(iface) -> tuple[list[dict], list[dict]]:
@@ -222,5 +242,6 @@ def emit_testbench(name: str, iface, plan: Plan, max_bytes: int, vectors_file: s
                   vectors_file=vectors_file, selection=pick.describe(), claim=iface.claim(),
                   cap=f"{max_bytes / 2**20:g} MiB", line_bytes=pick.line_bytes, step=STEP,
                   cap_vectors=pick.budget, dut_module=dut or name,
-                  dut_params=f" #(.WIDTH({iface.width}))" if width_param else "")
+                  dut_params=f" #(.WIDTH({iface.width}))" if width_param else "",
+                  clock=clocked_fields(iface))
     return Testbench(text, pick.count, plan, iface, pick, vectors_file)

@@ -4,7 +4,9 @@ spec gives the same bytes."""
 
 from __future__ import annotations
 
-from ..ir.cells import add_width, verilog_of
+from dataclasses import replace
+
+from ..ir.cells import CELLS, add_width, register_fields, verilog_of
 from ..ir.network import Network
 
 
@@ -99,12 +101,45 @@ def port_decls(net: Network) -> list[dict]:
     return decls
 
 
+def register_process(net: Network) -> list[str]:
+    """The one clocked process of a pipelined module (empty for a combinational one): every register on
+    the rising edge of clk, cleared by rst (synchronously, or asynchronously as its edge in the sensitivity
+    list) and loaded only when en is high, as the register cells say (cells.register_param)."""
+    regs = [i for i, n in enumerate(net.nodes) if CELLS[n.op].kind == "register"]
+    if not regs:
+        return []
+    kinds = {replace(register_fields(net.nodes[i].param), rank=0) for i in regs}
+    if len(kinds) != 1:
+        raise ValueError(f"{net.name}: registers clocked in different ways cannot share one process")
+    f = register_fields(net.nodes[regs[0]].param)
+    low = f.reset_level == "low"
+    edge = " or " + ("negedge" if low else "posedge") + " rst" if f.reset == "async" else ""
+    loads = [f"{net.nodes[i].name} <= {verilog_of(net.nodes[i].op, [operand(net, net.nodes[i].args[0])])};"
+             for i in regs]
+    lines = [f"always @(posedge clk{edge}) begin"]
+    if f.reset != "none":
+        lines.append(f"    if ({'!rst' if low else 'rst'}) begin")
+        lines += [f"        {net.nodes[i].name} <= 1'b0;" for i in regs]
+        lines.append("    end else " + ("if (en) begin" if f.enable else "begin"))
+        lines += ["        " + x for x in loads]
+        lines.append("    end")
+    elif f.enable:
+        lines.append("    if (en) begin")
+        lines += ["        " + x for x in loads]
+        lines.append("    end")
+    else:
+        lines += ["    " + x for x in loads]
+    lines.append("end")
+    return lines
+
+
 def emit_module(net: Network, header: list[str], keep: frozenset[str] = frozenset()) -> str:
     """The module's text. ``keep``: roles whose wires get ``(* keep *)``, so that synthesis must build each of
     them as a net of its own (the structure-kept FPGA flow keeps the carries this way)."""
     from .templating import render
 
     wires = []  # in node order, so that every net is declared before it is read (an ADD may read gates)
+    regs = []
     uses = net.uses()
     carried = _read_carries(net, uses)
     unread = _unread_bits(net, uses)
@@ -113,9 +148,12 @@ def emit_module(net: Network, header: list[str], keep: frozenset[str] = frozense
             bits = add_width(len(n.args)) + (i in carried)
             wires.append({"name": n.name, "range": f"[{bits - 1}:0] ", "expr": _add_expr(net, i, bits),
                           "unread": i in unread, "keep": False})
+        elif CELLS[n.op].kind == "register":
+            regs.append(n.name)
         elif n.op not in ("INPUT", "CONST", "PICK"):
             wires.append({"name": n.name, "range": "", "expr": expression(net, i), "unread": False,
                           "keep": n.role in keep})
     outputs = [{"name": p.name, "expr": concat(net, list(reversed(p.bits)))} for p in net.outputs]
     return render("module.v.j2", header=header, name=net.name, ports=port_decls(net), wires=wires,
-                  outputs=outputs)
+                  outputs=outputs, regs=regs,
+                  process=register_process(net))

@@ -10,7 +10,9 @@ from __future__ import annotations
 
 import re
 
-from ..ir.cells import add_width, vhdl_of
+from dataclasses import replace
+
+from ..ir.cells import CELLS, add_width, register_fields, vhdl_of
 from ..ir.network import Network
 
 STD = "93c"  # what GHDL is asked to check the files against (VHDL-93 with common relaxations)
@@ -154,16 +156,50 @@ class _Emitter:
         signals: list[dict] = []
         body: list[str] = []
         numeric = False
+        regs = []
         for i, n in enumerate(net.nodes):
             if n.op == "ADD":
                 numeric = True
                 body += self._add(i, carried, signals)
+            elif CELLS[n.op].kind == "register":
+                signals.append({"name": self.vname[i], "type": "std_logic"})
+                regs.append(i)
             elif n.op not in ("INPUT", "CONST", "PICK"):
                 signals.append({"name": self.vname[i], "type": "std_logic"})
                 body.append(f"{self.vname[i]} <= {self.expression(i)};")
+        if regs:
+            body += self.process(regs)
         for p in net.outputs:
             body += self.assign_bits(p.name, None if p.scalar else p.width, list(p.bits))
         return signals, body, numeric
+
+    def process(self, regs: list[int]) -> list[str]:
+        """The one clocked process of a pipelined entity: every register on the rising edge of clk,
+        cleared by rst (inside the edge, or ahead of it for an asynchronous reset), loaded when en = '1'."""
+        kinds = {replace(register_fields(self.net.nodes[i].param), rank=0) for i in regs}
+        if len(kinds) != 1:
+            raise ValueError(f"{self.net.name}: registers clocked in different ways cannot share one process")
+        f = kinds.pop()
+        active = "'0'" if f.reset_level == "low" else "'1'"
+        loads = [f"{self.vname[i]} <= {vhdl_of(self.net.nodes[i].op, [self.operand(self.net.nodes[i].args[0])])};"
+                 for i in regs]
+        clears = [f"{self.vname[i]} <= '0';" for i in regs]
+
+        def indent(lines: list[str], k: int) -> list[str]:
+            return [" " * (4 * k) + x for x in lines]
+
+        if f.enable:
+            loads = ["if en = '1' then"] + indent(loads, 1) + ["end if;"]
+        if f.reset == "async":
+            inner = ([f"if rst = {active} then"] + indent(clears, 1) + ["elsif rising_edge(clk) then"]
+                     + indent(loads, 1) + ["end if;"])
+            head = "process (clk, rst)"
+        else:
+            edge = loads if f.reset == "none" else ([f"if rst = {active} then"] + indent(clears, 1) + ["else"]
+                                                    + indent(loads, 1) + ["end if;"])
+            inner = ["if rising_edge(clk) then"] + indent(edge, 1) + ["end if;"]
+            head = "process (clk)"
+        return [head, "begin"] + indent(inner, 1) + ["end process;"]
 
     def _add(self, i: int, carried: set[int], signals: list[dict]) -> list[str]:
         n = self.net.nodes[i]
@@ -214,13 +250,13 @@ def emit_testbench(name: str, iface, count: int, plan: str) -> str:
     """The VHDL testbench over the Verilog testbench's vectors file, generic over the interface's ports."""
     from ..base.version import __version__
     from .templating import render
-    from .testbench import STEP, line_bits, port_fields
+    from .testbench import STEP, clocked_fields, line_bits, port_fields
 
     digits = (line_bits(iface) + 3) // 4  # as testbench.vector_lines writes them
     inputs, outputs = port_fields(iface)
     return render("testbench.vhd.j2", name=name, count=count, digits=digits, inputs=inputs, outputs=outputs,
                   in_bits=iface.in_bits, out_bits=iface.out_bits, claim=iface.claim(), step=STEP, plan=plan,
-                  version=__version__, std=STD)
+                  version=__version__, std=STD, clock=clocked_fields(iface))
 
 
 def vhdl_files(d) -> dict[str, str]:

@@ -24,6 +24,10 @@ Each ``CellType`` carries, for one op:
   NAND2, AO21 as AOI21): the usual reading of an adder's gate graph, in which polarity alternates from
   level to level (Harris and Sutherland, "Logical effort of carry propagate adders", Asilomar 2003).
 
+The register ``DFF`` (pipelining, ir/pipeline.py) has an evaluator (its next state from its data input),
+HDL forms (the value clocked in; the back ends write the clocked process around it) and an Amaranth form
+(for ``m.d.sync``), but no delay figures: it ends a stage's timing paths and starts the next one's.
+
 Ops that are not gates (INPUT, CONST, the ADD/PICK macro) have ``None`` in the fields that do not apply to
 them and say why in ``none_because``; every consumer handles them in a branch of its own. ``ADD`` is an
 opaque k-bit ``+`` (the behavioural baseline, and FPGA carry-chain blocks): synthesis chooses what it
@@ -60,7 +64,7 @@ class CellType:
     cost: int  # gate equivalents
     levels: int  # 2-input gate levels
     doc: str
-    kind: str = "gate"  # gate | input | const | macro
+    kind: str = "gate"  # gate | input | const | macro | register
     evaluate: Callable | None = None
     steps: tuple[tuple[str, tuple[int, ...]], ...] | None = None  # ufunc, operands (-1: the output itself)
     verilog: str | None = None
@@ -143,6 +147,16 @@ _cell("ADD", None, 0, 0, "k-bit a + b + cin, args (a0..ak-1, b0..bk-1, cin); its
 _cell("PICK", 1, 0, 0, "bit `param` of a multi-bit cell (ADD: bits 0..k-1 sum, bit k carry out)",
       kind="macro", none_because="a bit select of an ADD's result: no logic of its own")
 
+# Registers.
+_cell("DFF", 1, 0, 0, "a register of one bit clocked by the rising edge of clk; param holds its pipeline rank "
+      "and how it is clocked (register_param): a clock enable en, a sync or async reset rst (active high or "
+      "low) that clears it to 0",
+      kind="register",
+      # the value it takes at the clock edge (its next state) from its data input
+      evaluate=lambda d: d, verilog="{0}", vhdl="{0}", amaranth=lambda hdl, d: d,
+      none_because="a register ends one stage's timing paths and starts the next one's: timing passes start "
+      "at it (arrival 0) and the per-stage levels are the figure; it has no combinational steps")
+
 GATES = frozenset(op for op, c in CELLS.items() if c.kind == "gate")
 
 
@@ -175,3 +189,35 @@ def vhdl_of(op: str, args: list[str]) -> str:
     if form is None:
         raise ValueError(f"no VHDL expression for {op}")
     return form.format(*args)
+
+
+# A register's param: its rank in the low byte, how it is clocked in the bits above (so the IR says it all).
+_ENABLE, _SYNC, _ASYNC, _LOW = 1, 2, 4, 8
+
+
+@dataclass(frozen=True)
+class RegisterParam:
+    rank: int
+    enable: bool = False
+    reset: str = "none"  # none | sync | async
+    reset_level: str = "high"  # high | low
+
+    def text(self) -> str:
+        """'1 en rst=sync/high' for dumps."""
+        out = str(self.rank) + (" en" if self.enable else "")
+        return out + (f" rst={self.reset}/{self.reset_level}" if self.reset != "none" else "")
+
+
+def register_param(rank: int, enable: bool = False, reset: str = "none", reset_level: str = "high") -> int:
+    if not 0 < rank < 256 or reset not in ("none", "sync", "async") or reset_level not in ("high", "low"):
+        raise ValueError(f"bad register: rank {rank}, reset {reset!r}, level {reset_level!r}")
+    flags = (_ENABLE if enable else 0) | {"none": 0, "sync": _SYNC, "async": _ASYNC}[reset]
+    flags |= _LOW if reset != "none" and reset_level == "low" else 0
+    return rank | flags << 8
+
+
+def register_fields(param: int) -> RegisterParam:
+    flags = param >> 8
+    reset = "sync" if flags & _SYNC else "async" if flags & _ASYNC else "none"
+    return RegisterParam(param & 0xFF, bool(flags & _ENABLE), reset,
+                         "low" if flags & _LOW else "high")

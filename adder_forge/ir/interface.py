@@ -56,6 +56,33 @@ class Interface:
     operation: str = "add"
     pins: tuple[Pin, ...] = ()
     latency: int = 0  # clock cycles from an input to its result; 0 is combinational
+    reset: str = "none"  # what rst does when there is one: "sync" or "async" clear of every register
+    reset_level: str = "high"  # the level of rst that resets
+
+    # -- clocking -----------------------------------------------------------------------------------------
+    @property
+    def clocking(self):
+        """The clocking this interface promises, as the spec's ``pipeline`` record (spec/pipeline.py)."""
+        from ..spec.pipeline import Pipeline
+
+        return Pipeline(self.latency, self.has(ENABLE), self.reset, self.reset_level)
+
+    def clocked(self, cfg) -> "Interface":
+        """This interface with the clock, reset and enable inputs of a pipelined form ``cfg`` (a
+        spec.pipeline.Pipeline) ahead of the data ports, and its latency."""
+        from dataclasses import replace
+
+        control = [Pin(CLOCK, "in", 1, True)] if cfg.stages else []
+        if cfg.stages and cfg.reset != "none":
+            control.append(Pin(RESET, "in", 1, True))
+        if cfg.stages and cfg.enable:
+            control.append(Pin(ENABLE, "in", 1, True))
+        data = tuple(p for p in self.pins if p.role not in CONTROL)
+        iface = replace(self, pins=tuple(control) + data, latency=cfg.stages,
+                        reset=cfg.reset if cfg.stages else "none",
+                        reset_level=cfg.reset_level if cfg.stages and cfg.reset != "none" else "high")
+        iface.validate()
+        return iface
 
     # -- ports ----------------------------------------------------------------------------------------
     def has(self, role: str) -> bool:
@@ -220,12 +247,13 @@ class Interface:
 
         ins = " ".join(pin(p) for p in self.pins if p.direction == "in")
         outs = " ".join(pin(p) for p in self.pins if p.direction == "out")
-        return f"{self.operation} width={self.width} latency={self.latency} in {ins} out {outs}"
+        clock = f" reset={self.reset}/{self.reset_level}" if self.reset != "none" else ""
+        return f"{self.operation} width={self.width} latency={self.latency}{clock} in {ins} out {outs}"
 
     # -- as data, for child processes ------------------------------------------------------------------
     def to_json(self) -> str:
         return json.dumps({"width": self.width, "operation": self.operation,
-                           "latency": self.latency,
+                           "latency": self.latency, "reset": self.reset, "reset_level": self.reset_level,
                            "pins": [[p.role, p.direction, p.width, p.scalar] for p in self.pins]},
                           separators=(",", ":"))
 
@@ -233,7 +261,7 @@ class Interface:
     def from_json(cls, text: str) -> "Interface":
         d = json.loads(text)
         pins = tuple(Pin(r, direction, int(w), bool(s)) for r, direction, w, s in d["pins"])
-        iface = cls(int(d["width"]), d["operation"], pins, int(d["latency"]))
+        iface = cls(int(d["width"]), d["operation"], pins, int(d["latency"]), d["reset"], d["reset_level"])
         iface.validate()
         return iface
 
@@ -253,6 +281,10 @@ class Interface:
                 raise ValueError(f"port {p.role}: width {p.width}, direction {p.direction}")
         if self.has(SUBTRACT) != (self.operation == "add-subtract"):
             raise ValueError("a sub port exactly when the operation is add-subtract")
+        if self.has(CLOCK) != (self.latency > 0) or (self.has(ENABLE) and not self.latency):
+            raise ValueError("a clk port exactly when the latency is 1 or more, an en port only then")
+        if self.has(RESET) != (self.reset in ("sync", "async")) or self.reset_level not in ("high", "low"):
+            raise ValueError(f"an rst port exactly when there is a reset (reset {self.reset!r})")
 
 
 def sign_overflow(xs, ys, rs):

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from .cells import CELLS
+from .cells import CELLS, register_fields
 from .interface import Interface
 
 
@@ -121,6 +121,8 @@ def dump(net: Network) -> str:
             continue
         args = " ".join(_ref(net, a) for a in n.args)
         extra = f" #{n.param}" if n.op in ("CONST", "PICK") else ""
+        if CELLS[n.op].kind == "register":
+            extra = f" #{register_fields(n.param).text()}"
         role = f"  ; {n.role}" if n.role else ""
         lines.append(f"{_ref(net, i)} = {n.op}{extra} {args}".rstrip() + role)
     for p in net.outputs:

@@ -11,6 +11,7 @@ import yaml
 
 from ..base.errors import SpecError
 from ..base.keywords import BUILTIN_NAMES, IDENT, RESERVED
+from .pipeline import COMBINATIONAL, Pipeline, parse_pipeline
 from .registry import MAX_WIDTH, Option, bool_option, choice_option, schemes, shown, suggest, type_name, yaml11_hint
 
 
@@ -26,7 +27,7 @@ MAX_NAME = 128  # file names are the name plus a suffix; most file systems stop 
 MAX_SPEC_BYTES = 16 << 20  # a spec is a few lines; this bounds what a mistaken path can make us read
 
 # Keys every spec may carry; a scheme declares the rest (registry.Option).
-COMMON_KEYS = ("name", "width", "scheme", "carry_in", "carry_out", "form", "operation", "overflow")
+COMMON_KEYS = ("name", "width", "scheme", "carry_in", "carry_out", "form", "operation", "overflow", "pipeline")
 # The shapes NAME.v can take: one module fixed to the spec's width, gate by gate (flat), or one module with
 # a WIDTH parameter whose generate loops build the same structure at any width (emit/param_verilog.py,
 # which also says which schemes have that form).
@@ -49,6 +50,7 @@ class Spec:
     form: str = "flat"  # FORMS
     operation: str = "add"  # add, subtract or add-subtract
     overflow: bool = False  # an output for signed two's-complement overflow
+    pipeline: Pipeline = COMBINATIONAL  # register ranks and their clocking (spec/pipeline.py)
 
     @property
     def network_carry_in(self) -> bool:
@@ -90,6 +92,8 @@ class Spec:
             d[k] = _plain(v)
         if self.form != "flat":  # only when asked for, so flat reports and headers read as before
             d["form"] = self.form
+        if self.pipeline.clocked:
+            d["pipeline"] = self.pipeline.to_dict()
         return d
 
 
@@ -267,6 +271,11 @@ def parse_spec(text: str, source: str = "<spec>") -> Spec:
         data[key] = construct(vnode, key, source)
         pos[key] = (vnode.start_mark.line + 1, vnode.start_mark.column + 1)
         key_pos[key] = (kl, kc)
+        if isinstance(vnode, yaml.MappingNode):  # nested keys (pipeline.stages) get places of their own
+            for sub_k, sub_v in vnode.value:
+                if isinstance(sub_k, yaml.ScalarNode):
+                    pos[f"{key}.{sub_k.value}"] = (sub_v.start_mark.line + 1, sub_v.start_mark.column + 1)
+                    key_pos[f"{key}.{sub_k.value}"] = (sub_k.start_mark.line + 1, sub_k.start_mark.column + 1)
     return from_mapping(data, source, pos, key_pos)
 
 
@@ -357,9 +366,16 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
         else:
             options.append((o.key, o.default))
 
-    positions = tuple((k, *pos[k]) for k in data if k in pos)
+    def fail_nested(key: str, message: str, at_key: bool = False):
+        fail_at(key if key in pos else "pipeline", message, at_key)
+
+    pipe = parse_pipeline(data.get("pipeline"), fail_nested)
+    positions = tuple((k, *pos[k]) for k in pos if k in data or k.startswith("pipeline."))
     spec = Spec(name, width, scheme_name, flags["carry_in"], flags["carry_out"], tuple(options), source, positions,
-                form, operation, flags["overflow"])
+                form, operation, flags["overflow"], pipe)
+    if pipe.clocked and form != "flat":
+        fail_at("pipeline", f"'pipeline' takes the flat form only; the {form} form has no register stages "
+                            "(leave out 'form' or 'pipeline')")
     if sch.validate is not None:
         sch.validate(spec)
     return spec

@@ -21,8 +21,8 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import dataclass
 
-from ..ir.cells import CELLS
-from ..ir.network import Network, Node
+from .cells import CELLS
+from .network import Network, Node
 
 SKIP = "skip"  # the role of a bypass multiplexer
 
@@ -104,3 +104,10 @@ def _without(net: Network, t: list, dst: int, src: int, delay: Delay):
 
 def output_bits(net: Network) -> list[int]:
     return [b for p in net.outputs for b in p.bits]
+
+
+def endpoints(net: Network) -> list[int]:
+    """Where timing paths end: output port bits that are not register outputs, and register data inputs
+    (the same as the output bits in a combinational network)."""
+    regs = [n.args[0] for n in net.nodes if CELLS[n.op].kind == "register"]
+    return [b for b in output_bits(net) if CELLS[net.nodes[b].op].kind != "register"] + regs
