@@ -46,7 +46,7 @@ def _parser() -> argparse.ArgumentParser:
     v.add_argument("--sim", action="append", default=[], metavar="NAME",
                    help="also run icarus, verilator, ghdl (the VHDL form, made on the fly), cocotb-icarus, "
                         "cocotb-verilator, or all (comma list, repeatable)")
-    v.add_argument("--formal", action="store_true", help="prove equivalence to a + b + cin with Yosys")
+    v.add_argument("--formal", action="store_true", help="prove the adder equal to its reference (a + b + cin, a - b, ...; registered outputs K cycles later) with Yosys")
     v.add_argument("--exhaustive", action="store_true",
                    help="built-in check of every input up to 2^33 vectors, a 16-bit adder with carry-in "
                         "(by default every input up to 2^25, a 12-bit adder with carry-in)")

@@ -76,6 +76,10 @@ def test_build_line_plurals(tmp_path, capsys):
      ["prefix=knowles", "fanouts=[4, 2, 1, 1]", "carry_in=false"]),
     ("scheme: block-lookahead\nblock: 2\ngroup: 3\nling: true\n", ["block=2", "group=3", "ling=true"]),
     ("scheme: carry-skip\ncarry_out: false\n", ["block=auto ([", "carry_out=false", "skip-aware"]),
+    # Before: a subtracter and an add/subtract unit with overflow printed exactly like the plain adder.
+    ("scheme: ripple\noperation: subtract\n", ["operation=subtract"]),
+    ("scheme: prefix\nprefix: sklansky\noperation: add-subtract\noverflow: true\n",
+     ["operation=add-subtract", "overflow=true"]),
 ])
 def test_build_line_names_every_option_that_shapes_the_adder(tmp_path, capsys, extra, words):
     """Before: taxonomy, fanouts and group were dropped (two different harris adders printed alike)."""
