@@ -45,7 +45,7 @@ def chain_prefix(spec):
         return finish(f, sums, c1)
     b = f.build
     m = len(chains) + 1
-    outs = list(range(m - 1)) + ([m - 1] if spec.carry_out else [])
+    outs = list(range(m - 1)) + ([m - 1] if spec.network_carry_out else [])
     graph = prune(build(spec.opt("prefix"), m), outs, f"{spec.opt('prefix')} over {m} blocks")
     gen = [c1] + [ch.g for ch in chains]
     prop = [None] + [ch.t for ch in chains]
@@ -63,6 +63,6 @@ def chain_prefix(spec):
     last = final_refs(graph)
     for j, ch in enumerate(chains, start=1):
         sums += cb.select_sums(f, val(last[j - 1])[0], ch)
-    cout = val(last[m - 1])[0] if spec.carry_out else b.const(0)
+    cout = val(last[m - 1])[0] if spec.network_carry_out else b.const(0)
     b.meta.append((META_BLOCK_NETWORK, graph.style))
     return finish(f, sums, cout)
