@@ -107,3 +107,14 @@ def test_a_cycle_and_an_upward_import_would_be_caught(tmp_path):
             test_no_upward_import("adder_forge.ir.a")
     finally:
         GRAPH = saved
+
+
+def test_every_layer_folder_ships_in_the_wheel():
+    """pyproject lists packages by hand; a layer folder left out imports from a checkout but is missing from
+    the installed wheel (adder_forge.search was, once)."""
+    import re as _re
+    root = Path(__file__).resolve().parents[1]
+    listed = set(_re.findall(r'"(adder_forge[\w.]*)"', (root / "pyproject.toml").read_text().split("packages =", 1)[1]
+                            .split("]", 1)[0]))
+    folders = {"adder_forge." + p.parent.name for p in (root / "adder_forge").glob("*/__init__.py")}
+    assert folders <= listed, sorted(folders - listed)
