@@ -31,8 +31,9 @@ from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
 MARK = "@@adder-forge-tour {}@@"
-# tqdm writes carriage returns and a bar; neither belongs to what a command reports.
-PROGRESS = re.compile(r"\r|\|[#█▏▎▍▌▋▊▉ ]*\|")
+# tqdm writes carriage returns and a bar, and without a terminal our progress lines start with '... ';
+# neither belongs to what a command reports.
+PROGRESS = re.compile(r"\r|\|[#█▏▎▍▌▋▊▉ ]*\||^\.\.\. ")
 
 
 @dataclass
@@ -71,7 +72,7 @@ def shown_blocks(text: str) -> list[list[Shown]]:
 
 
 def matches(expected: list[str], got: list[str]) -> bool:
-    pattern = "\n".join(
+    pattern = "".join(
         "(?:.*\n)*?" if e.strip() == "..." else re.escape(e.rstrip()) + "\n" for e in expected
     )
     return re.fullmatch(pattern, "".join(g.rstrip() + "\n" for g in got)) is not None

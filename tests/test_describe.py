@@ -67,3 +67,13 @@ def test_meta_is_written_under_named_keys():
             if re.search(r"meta(\.append\(|\s*\+=\s*\[?)\s*\(\s*[\"']", line) or re.search(r"\(\([\"']note[\"'],", line):
                 found.append(f"{path.relative_to(PKG)}:{k}: {line.strip()}")
     assert not found, found
+
+
+def test_one_line_summary_names_the_form_and_what_the_unit_computes():
+    # a parameterized file is not the flat netlist the figures count, so its line must say which file it is
+    flat = describe(make_spec("d_flat", 8, "ripple", carry_in=False))
+    param = describe(make_spec("d_param", 8, "ripple", carry_in=False, form="parameterized"))
+    assert "form=" not in flat
+    assert param == flat[:-1] + ", form=parameterized]"
+    sub = describe(make_spec("d_sub", 8, "ripple", carry_in=False, form="parameterized", operation="subtract"))
+    assert sub.endswith("form=parameterized, operation=subtract]"), sub

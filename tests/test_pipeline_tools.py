@@ -54,6 +54,11 @@ def test_icarus_and_verilator_back_to_back(tmp_path):
         for checker in ("builtin", "icarus", "verilator"):
             o = got[(d.spec.name, checker)]
             assert o.ok and o.failed == 0 and o.passed == (d.testbench.count if checker != "builtin" else o.passed), o
+            # every row says how the vectors went through the registers, not only how they were chosen
+            k = d.spec.pipeline.stages
+            assert f"a new vector every edge, each result {k} cycles later" in o.detail, o.detail
+            assert ("a stall every 13 cycles" in o.detail) == d.spec.pipeline.enable, o.detail
+            assert f"{d.spec.pipeline.reset} reset first" in o.detail, o.detail
 
 
 @pytest.mark.sim

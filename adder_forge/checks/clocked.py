@@ -28,12 +28,11 @@ from ..ir.network import Network
 from ..ir.cells import register_fields
 from ..ir.pipeline import registers
 from ..spec.pipeline import Pipeline
+from ..emit.testbench import RESET_CYCLES, STALL_AT, STALL_EVERY, clocking_summary  # one schedule for every check
 from ..emit.vectors import Plan, VectorSet, expected, iface_planes, plane_bit, to_planes, valid_mask
 
 MAX_LANES = 4096  # pipeline copies side by side (64 words): wide enough to be fast
 MIN_CYCLES = 64  # ... and narrow enough that every copy sees a stream of at least this many vectors
-STALL_EVERY, STALL_AT = 13, 5  # with an enable: cycles c with c % 13 == 5 are stalls
-RESET_CYCLES = 2
 
 
 def lanes_for(count: int) -> int:
@@ -208,12 +207,7 @@ def check_clocked(net: Network, plan: Plan, chunk: int = 1 << 20, seed: int = 1,
             task.advance(len(piece))
     while in_flight:
         step(None)
-    detail = (f"{plan.describe()}; cycle by cycle, {lanes} pipelines side by side, a new vector every edge, "
-              f"each result {k} cycle{'s' if k != 1 else ''} later")
-    if cfg.enable:
-        detail += f", a stall every {STALL_EVERY} cycles"
-    if cfg.reset != "none":
-        detail += f", {cfg.reset} reset first"
+    detail = f"{plan.describe()}; cycle by cycle, {lanes} pipelines side by side, {clocking_summary(net.iface)}"
     if notes:
         detail += "; " + "; ".join(notes)
     return total, failed, first, detail

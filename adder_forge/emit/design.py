@@ -9,7 +9,7 @@ from ..analysis.structure import metrics
 from ..schemes import elaborate
 from .summary import header_lines, design_summary, to_json
 from ..spec.loader import Spec
-from .testbench import Testbench, emit_testbench, line_bits, line_bytes
+from .testbench import Testbench, clocking_summary, emit_testbench, line_bits, line_bytes
 from .verilog import emit_module
 from .vectors import plan_for
 
@@ -74,4 +74,5 @@ def design(spec: Spec, net: Network | None = None, tb_random: int = TB_RANDOM, s
         verilog = emit_param(spec, header)
     else:
         verilog = emit_module(net, header)
-    return Design(spec, net, m, verilog, tb, plan.describe() + tb.pick.summary())
+    clocked = clocking_summary(iface)  # the simulators' rows say how a pipelined adder was driven
+    return Design(spec, net, m, verilog, tb, plan.describe() + tb.pick.summary() + (f"; {clocked}" if clocked else ""))

@@ -28,7 +28,9 @@ def description(spec: Spec, meta=()) -> Description:
 def describe(spec: Spec, meta=()) -> str:
     """'32-bit prefix [carry_in=true, ..., prefix=kogge-stone, block=1, ...]' for one-line summaries: the width,
     the scheme and every key that shapes the adder, as the scheme describes it."""
-    keys = [(k, v) for k, v in description(spec, meta).keys if k not in ("pipeline", "operation", "overflow")]
+    keys = [(k, v) for k, v in description(spec, meta).keys if k not in ("form", "pipeline", "operation", "overflow")]
+    if spec.form != "flat":  # the file is not the flat netlist the figures count: say so on the line
+        keys.append(("form", spec.form))
     if spec.operation != "add":  # what the unit computes comes first among the keys after the ports
         keys.append(("operation", spec.operation))
     if spec.overflow:

@@ -216,6 +216,21 @@ def clocked_fields(iface) -> dict | None:
             "stall_every": STALL_EVERY, "stall_at": STALL_AT}
 
 
+def clocking_summary(iface) -> str:
+    """How a pipelined adder's vectors are clocked through it, as every check that drives it says ('' for a
+    combinational one)."""
+    clock = clocked_fields(iface)
+    if clock is None:
+        return ""
+    k = clock["latency"]
+    text = f"a new vector every edge, each result {k} cycle{'s' if k != 1 else ''} later"
+    if clock["enable"]:
+        text += f", a stall every {STALL_EVERY} cycles"
+    if clock["reset"]:
+        text += f", {clock['reset']} reset first"
+    return text
+
+
 def port_fields(iface) -> tuple[list[dict], list[dict]]:
     """Each data input's and output's place in a vector line (bit ranges of the packed input word and of
     the packed output word), for the templates."""
