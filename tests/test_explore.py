@@ -493,3 +493,57 @@ def test_a_dask_cluster_gives_the_same_results_as_local_cores(tmp_path):
 def test_dask_needs_a_scheduler_and_says_so(tmp_path):
     r = subprocess.run([*CLI, "explore", str(_tiny(tmp_path)), "--executor", "dask"], capture_output=True, text=True)
     assert r.returncode == 2 and "--scheduler" in r.stderr and r.stderr.count("\n") == 1
+
+
+def _children(pid: int) -> set[int]:
+    """PIDs whose parent is pid, read from /proc (Linux); never by process name."""
+    out = set()
+    for d in Path("/proc").iterdir():
+        if d.name.isdigit():
+            try:
+                if int((d / "stat").read_text().rsplit(")", 1)[1].split()[1]) == pid:
+                    out.add(int(d.name))
+            except (OSError, IndexError, ValueError):
+                pass
+    return out
+
+
+def _alive(pid: int) -> bool:
+    try:
+        state = (Path("/proc") / str(pid) / "stat").read_text().rsplit(")", 1)[1].split()[0]
+    except OSError:
+        return False
+    return state != "Z"
+
+
+@pytest.mark.slow
+@pytest.mark.skipif(not Path("/proc/self/stat").exists(), reason="reads worker PIDs from /proc (Linux)")
+def test_pool_workers_die_with_a_killed_explore(tmp_path):
+    sweep = _tiny(tmp_path, TINY.replace("[8, 16]", "[16, 32, 64]"))
+    base = [*CLI, "explore", str(sweep), "--jobs", "2", "--table-only"]
+    whole = subprocess.run([*base, "--out", str(tmp_path / "whole"), "--cache", str(tmp_path / "c1")],
+                           capture_output=True, text=True)
+    assert whole.returncode == 0, whole.stderr
+    cache = cache_mod.Cache(tmp_path / "c2")
+    p = subprocess.Popen([*base, "--out", str(tmp_path / "cut"), "--cache", str(tmp_path / "c2")],
+                         stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    workers: set[int] = set()
+    deadline = time.monotonic() + 300
+    while not cache.entries() and time.monotonic() < deadline and p.poll() is None:
+        workers |= _children(p.pid)
+        time.sleep(0.005)
+    workers |= _children(p.pid)
+    p.send_signal(signal.SIGKILL)
+    p.wait()
+    assert workers, "the run started no worker processes"
+    deadline = time.monotonic() + 10
+    while any(_alive(w) for w in workers) and time.monotonic() < deadline:
+        time.sleep(0.05)
+    left = [w for w in workers if _alive(w)]
+    for w in left:  # clean up what the defect left behind: only PIDs this run started
+        os.kill(w, signal.SIGKILL)
+    assert not left, f"workers {left} outlived the killed explore"
+    again = subprocess.run([*base, "--out", str(tmp_path / "cut"), "--cache", str(tmp_path / "c2")],
+                           capture_output=True, text=True)
+    assert again.returncode == 0, again.stderr
+    assert (tmp_path / "cut" / "results.csv").read_bytes() == (tmp_path / "whole" / "results.csv").read_bytes()

@@ -54,6 +54,33 @@ def default_jobs() -> int:
         return max(1, os.cpu_count() or 1)
 
 
+def _die_with_parent(parent_pid: int) -> None:
+    """Worker initializer: end this worker when the explore process dies, even by SIGKILL (a pool's own
+    shutdown never runs then, and orphaned workers would go on synthesizing). Linux: the kernel sends
+    SIGKILL on parent death (prctl PR_SET_PDEATHSIG); elsewhere a daemon thread polls the parent pid."""
+    import signal
+    import threading
+    import time
+
+    try:
+        import ctypes
+
+        libc = ctypes.CDLL(None, use_errno=True)
+        if libc.prctl(1, signal.SIGKILL, 0, 0, 0) == 0:  # 1 = PR_SET_PDEATHSIG
+            if os.getppid() != parent_pid:  # the parent died before prctl took hold
+                os._exit(1)
+            return
+    except (OSError, AttributeError):
+        pass
+
+    def watch() -> None:
+        while os.getppid() == parent_pid:
+            time.sleep(1.0)
+        os._exit(1)
+
+    threading.Thread(target=watch, name="adder-forge-parent-watch", daemon=True).start()
+
+
 @executor("local", True, "a process pool on this machine (--jobs N, default: every core)")
 def _local(jobs: int | None = None, scheduler: str | None = None) -> Iterator:
     if scheduler:
@@ -65,7 +92,8 @@ def _local(jobs: int | None = None, scheduler: str | None = None) -> Iterator:
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
 
-    pool = ProcessPoolExecutor(max_workers=jobs, mp_context=multiprocessing.get_context("spawn"))
+    pool = ProcessPoolExecutor(max_workers=jobs, mp_context=multiprocessing.get_context("spawn"),
+                               initializer=_die_with_parent, initargs=(os.getpid(),))
     try:
         yield pool
     finally:
