@@ -33,6 +33,8 @@ def constructions() -> list[tuple[str, str, dict]]:
     for scheme in sorted(FORMS):
         if scheme == "prefix":
             out += [(f"prefix:{n}", "prefix", {"prefix": n}) for n in PREFIX_NETWORKS]
+        elif scheme == "carry-select":  # the form needs a number of bits a block; 'auto' is refused
+            out += [(f"carry-select:{k}", scheme, {"block": k}) for k in (4, 3, 1)]
         else:
             out.append((scheme, scheme, {}))
     return out
@@ -53,7 +55,7 @@ def main() -> int:
                 continue
             for ports in args.ports.split(","):
                 ci, co = PORTS[ports]
-                name = "pb_" + label.replace("prefix:", "").replace("-", "_") + f"_{ports}"
+                name = "pb_" + label.replace("prefix:", "").replace("-", "_").replace(":", "_") + f"_{ports}"
                 spec = make_spec(name, 8, scheme, carry_in=ci, carry_out=co, form="parameterized", **keys)
                 verilog = emit_design(spec).verilog
                 row = {"construction": label, "carry_in": ci, "carry_out": co, "widths": widths}

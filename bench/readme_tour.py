@@ -2,6 +2,7 @@
 
     .venv/bin/python bench/readme_tour.py            # every shown command, in a scratch clone
     .venv/bin/python bench/readme_tour.py --list     # the commands only
+    .venv/bin/python bench/readme_tour.py --update   # write what this run printed into the README
 
 A shown command is a line `$ CMD` inside a fenced block with no language; the lines after it, up to the
 next `$ ` line or the fence, are its output. `...` in the README's output stands for any number of lines.
@@ -10,6 +11,10 @@ of this checkout's last commit, with this checkout's `.venv/bin` first on PATH, 
 written over. A command's output matches if its stdout matches, or its stderr followed by its stdout
 with progress-bar lines left out (errors and notes go to stderr). After the run the clone's tracked files
 must be unchanged: a README command that regenerates a committed file must write the same bytes.
+
+`--update` replaces a differing command's shown output by what it printed this run (stdout, or stderr
+where it printed nothing on stdout), except where the README elides lines with `...` (fix those by hand);
+read `git diff README.md` before committing it.
 
 Exit status: 0 when every shown output matched and no tracked file changed, 1 otherwise (each
 difference printed as a diff).
@@ -102,6 +107,7 @@ def run_block(block: list[Shown], cwd: Path, env: dict) -> tuple[list[list[str]]
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--list", action="store_true", help="print the shown commands and stop")
+    ap.add_argument("--update", action="store_true", help="write this run's outputs into README.md")
     ap.add_argument("--keep", action="store_true", help="keep the scratch clone and say where it is")
     args = ap.parse_args()
 
@@ -124,6 +130,7 @@ def main() -> int:
 
     differ = 0
     total = 0
+    updates: dict[int, list[str]] = {}  # README line of a command -> its new shown output
     for block in blocks:
         t0 = time.monotonic()
         out, err = run_block(block, clone, env)
@@ -139,12 +146,24 @@ def main() -> int:
                 sys.stdout.writelines(difflib.unified_diff(
                     [e + "\n" for e in s.expected], [g + "\n" for g in got],
                     "README.md", "this run", lineterm="\n"))
+                if any(e.strip() == "..." for e in s.expected):
+                    print(f"README.md:{s.line}: elided output, not updated; fix it by hand")
+                else:
+                    updates[s.line] = out[k] if out[k] else err[k]
     changed = subprocess.run(["git", "status", "--porcelain", "--untracked-files=no"], cwd=clone,
                              capture_output=True, text=True, check=True).stdout
     if changed.strip():
         print("tracked files changed by the shown commands:\n" + changed)
     print(f"{total} shown commands, {differ} differ from the README"
           + ("; tracked files changed" if changed.strip() else ""))
+    if args.update and updates:
+        lines = (ROOT / "README.md").read_text().splitlines(keepends=True)
+        for block in reversed(blocks):
+            for s in reversed(block):
+                if s.line in updates:  # s.line is 1-based: its output starts at index s.line
+                    lines[s.line:s.line + len(s.expected)] = [g + "\n" for g in updates[s.line]]
+        (ROOT / "README.md").write_text("".join(lines))
+        print(f"README.md: {len(updates)} shown outputs updated")
     if args.keep:
         print(f"scratch clone kept at {clone}")
     else:
