@@ -24,8 +24,9 @@ Moves, each counted in cells:
 Depth budgets only matter up to the depth asked for, so the state space is small: blocks up to n columns
 times a few depths. The program returns the construction as rows; ``from_rows`` then skips any pair that
 adds nothing (a driver that became complete earlier), so the built network has at most the cells the
-program counted, and its count is what is reported. It is exact within its class: at n = 16, 32, 64,
-128 and depth log2 n it reaches Sergeev 2013's exact minima (docs/search.md has what it reaches at 256).
+program counted, and its count is what is reported. It is exact within its class: at depth log2 n it
+reaches Sergeev 2013's exact minima at n = 16 and 32 only; at 64, 128 and 256 it gives Ladner and Fischer's
+P_0 (168, 369, 792 against 167, 364, 773; docs/search.md).
 """
 
 from __future__ import annotations
