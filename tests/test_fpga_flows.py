@@ -39,3 +39,24 @@ def test_ecp5_places_a_small_hybrid(tmp_path):
     assert fig["carry"] >= 3 and fig["lut4"] >= 4  # three 4-bit chains (two CCU2C each), 4 sum selects
     assert fig["fmax_mhz"] > 0 and fig["seed"] == 1 and fig["device"].startswith("ECP5")
     assert "--seed 1" in fig["place_and_route"]
+
+
+@pytest.mark.synth
+@pytest.mark.slow
+def test_report_from_the_cli_places_on_ecp5(tmp_path, capsys):
+    """`adder-forge report SPEC --synth ecp5` end to end: the table has the ECP5 columns, the 8-bit ripple's
+    JSON holds an Fmax from nextpnr-ecp5 and `+` maps onto carry cells (CCU2C, two bits each)."""
+    import json
+
+    from adder_forge.cli import main
+
+    spec = tmp_path / "r8.yaml"
+    spec.write_text("name: r8\nwidth: 8\nscheme: ripple\n")
+    assert main(["report", str(spec), "--synth", "ecp5", "--out", str(tmp_path / "out")]) == 0
+    said = capsys.readouterr().out
+    assert "ECP5 Fmax MHz" in said and "CCU2C" in said
+    m = json.loads((tmp_path / "out" / "r8" / "r8.json").read_text())["measurements"]
+    plus = {x["figure"]: x["value"] for x in m["baseline"]["records"]}
+    mine = {x["figure"]: x["value"] for x in m["records"]}
+    assert mine["ecp5_fmax_mhz"] > 0 and plus["ecp5_fmax_mhz"] > 0
+    assert plus["ecp5_carry"] >= 4 and plus["ecp5_lut4"] == 0
