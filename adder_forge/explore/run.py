@@ -9,7 +9,10 @@ file system are kept as well.
 
 A failure is a result: a mismatch found by the built-in check is recorded (and cached, since it is what
 the adder does), a tool error or a crashed worker is recorded and not cached (the next run tries again);
-neither stops the sweep, and every table, plot and `pick` shows it.
+neither stops the sweep, and every table, plot and `pick` shows it. A synthesis task runs under the
+sweep's time limit (``task_seconds``, timed.py): one that passes it is recorded as a failed row, and
+cached with its limit, so that an unchanged re-run computes nothing while a run with a larger limit (or
+none) measures the adder again.
 """
 
 from __future__ import annotations
@@ -39,6 +42,7 @@ class Task:
     spec: Spec
     family: str
     key: str
+    limit: float | None = None  # seconds, for a synthesis task (timed.py); not part of the key
 
 
 KEY_NAME = "adder"  # the name every network is elaborated under for its key: a name changes no figure
@@ -52,11 +56,27 @@ def ir_digest(spec: Spec) -> str:
     return sha256_text(dump(elaborate(replace(spec, name=KEY_NAME))))
 
 
-def task_for(spec: Spec, family: str, network: str) -> Task:
+def task_for(spec: Spec, family: str, network: str, limit: float | None = None) -> Task:
     """``network``: ir_digest(spec). The key: the network, the family, the code and tools that measure it
-    (figures.tool_versions) and, for the check, its vector plan."""
+    (figures.tool_versions) and, for the check, its vector plan. ``limit`` applies to a synthesis task
+    only (the check and the estimates run in the worker itself)."""
     extra = {"random": CHECK_RANDOM, "seed": CHECK_SEED} if family == CHECK else None
-    return Task(spec, family, cache_key({"network": network}, family, tool_versions(family), extra))
+    timed = limit if family not in (CHECK, ESTIMATES) else None
+    return Task(spec, family, cache_key({"network": network}, family, tool_versions(family), extra), timed)
+
+
+def usable(entry: dict | None, task: Task) -> dict | None:
+    """A cached entry this task may take: any entry but a time-out under a smaller limit than the task's
+    (a run with a larger limit, or none, measures the adder again)."""
+    if entry is None or "timed_out" not in entry:
+        return entry
+    return entry if task.limit is not None and task.limit <= entry["timed_out"] else None
+
+
+def storable(entry: dict) -> bool:
+    """Figures, a check's verdict and a time-out are cached (a time-out with its limit: an unchanged re-run
+    computes nothing); a tool error or a crashed worker is not, and the next run tries again."""
+    return "error" not in entry or "timed_out" in entry
 
 
 def compute(spec: Spec, family: str) -> dict:
@@ -117,12 +137,17 @@ def run_task(task: Task, cache_root: str | None) -> dict:
     ``computed`` and ``seconds`` say what this call did; neither is stored."""
     cache = Cache(cache_root) if cache_root else None
     if cache is not None:
-        hit = cache.get(task.key)
+        hit = usable(cache.get(task.key), task)
         if hit is not None:
             return {**hit, "computed": False}
     t0 = time.monotonic()
-    entry = compute(task.spec, task.family)
-    if cache is not None and "error" not in entry:
+    if task.limit is not None:
+        from .timed import compute_within
+
+        entry = compute_within(task.spec, task.family, task.limit, tool_versions(task.family))
+    else:
+        entry = compute(task.spec, task.family)
+    if cache is not None and storable(entry):
         cache.put(task.key, entry)
     return {**entry, "computed": True, "seconds": round(time.monotonic() - t0, 3)}
 
@@ -133,7 +158,8 @@ class Outcome:
     entries: dict[tuple[str, str], dict]  # (spec name, family) -> entry
     computed: int = 0
     cached: int = 0
-    failed: int = 0  # tasks that ended in an error (a tool, a crashed worker); not a check mismatch
+    failed: int = 0  # tasks that ended in an error (a tool, a crashed worker, a time-out); not a check mismatch
+    timed_out: int = 0  # of those, the synthesis tasks stopped at the task limit
     seconds: dict[str, float] = field(default_factory=dict)  # family -> time spent computing
 
 
@@ -151,11 +177,13 @@ def run_sweep(sweep: Sweep, cache_root: str | Path, executor=None, progress: Pro
     for p in sweep.points:
         network = ir_digest(p.spec)
         for fam in families(sweep):
-            t = task_for(p.spec, fam, network)
-            hit = cache.get(t.key)
+            t = task_for(p.spec, fam, network, sweep.task_seconds)
+            hit = usable(cache.get(t.key), t)
             if hit is not None:
                 out.entries[(p.spec.name, fam)] = hit
                 out.cached += 1
+                out.failed += "error" in hit
+                out.timed_out += "timed_out" in hit
             else:
                 todo.append(t)
     with progress.task(f"{sweep.name}: adders x figures", total=len(todo), unit="tasks") as bar:
@@ -166,9 +194,9 @@ def run_sweep(sweep: Sweep, cache_root: str | Path, executor=None, progress: Pro
             else:
                 out.cached += 1
             entry.pop("seconds", None)
-            if "error" in entry:
-                out.failed += 1
-            elif cache.get(t.key) is None:
+            out.failed += "error" in entry
+            out.timed_out += "timed_out" in entry
+            if storable(entry) and usable(cache.get(t.key), t) is None:
                 cache.put(t.key, entry)
             out.entries[(t.spec.name, t.family)] = entry
             bar.advance()
