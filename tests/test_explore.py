@@ -606,6 +606,11 @@ def test_a_synthesis_task_over_its_limit_is_a_failed_row_and_a_larger_limit_meas
     assert generic and all(r["value"] is None and "task limit of 0.001 s" in r["note"] for r in generic)
     assert all(r["value"] is not None for r in rows if r["figure"] == "unit_gate_area" and r["scheme"] != "behavioral")
     assert all(r["check"] == "pass" for r in rows)  # the check and the estimates are not limited
+    from adder_forge.explore.pick import choose, explain
+
+    lines = explain(choose(out, "abc_depth", "abc_cells", 100, "area"))  # pick says what it could not weigh
+    assert lines[0].startswith("no adder meets") and "  not measured, so not considered:" in lines
+    assert sum("task limit of 0.001 s" in line for line in lines) == n
     # cached with its limit: an unchanged re-run computes nothing and says the same
     again = explore(p, tmp_path / "o", tmp_path / "cache", jobs=1, draw=False)
     assert again.outcome.computed == 0 and again.outcome.timed_out == n

@@ -162,8 +162,8 @@ def unmeasured(p: Picked) -> list[str]:
     not hidden, since one of them might have won."""
     fam = family_of(p.target)
     out = []
-    for pt in p.out.sweep.points:
-        e = p.out.entries.get((pt.spec.name, fam)) or {}
+    for pt in p.outcome.sweep.points:
+        e = p.outcome.entries.get((pt.spec.name, fam)) or {}
         if "error" in e:
             out.append(f"    {pt.label:<32} {e['error']}")
     return ["  not measured, so not considered:", *out] if out else []

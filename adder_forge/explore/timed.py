@@ -81,7 +81,7 @@ def _watch_parent(parent: int) -> None:
 def main(argv: list[str]) -> int:
     threading.Thread(target=_watch_parent, args=(os.getppid(),), daemon=True).start()
     spec, family = pickle.loads(sys.stdin.buffer.read())
-    from .run import compute
+    from .task import compute
 
     entry = compute(spec, family)
     out = Path(argv[0])
