@@ -25,6 +25,8 @@ CONFIGS = [
     ("pv_beh", "behavioral", dict(carry_in=True, carry_out=False)),
     ("pv_cs", "carry-select", dict(block=3, carry_out=False)),
     ("pv_cs4", "carry-select", dict(block=4, carry_in=False)),
+    ("pv_skip", "carry-skip", dict(block=3)),
+    ("pv_skip4", "carry-skip", dict(block=4, carry_in=False, carry_out=False)),
     ("pv_ks", "prefix", dict(prefix="kogge-stone")),
     ("pv_sk", "prefix", dict(prefix="sklansky", carry_in=False)),
     ("pv_bk", "prefix", dict(prefix="brent-kung", carry_out=False)),
@@ -66,6 +68,8 @@ UNSUPPORTED = [
     ("scheme: prefix\nblock: 4\nform: parameterized\n", "4:8", ["dense prefix networks only"]),
     ("scheme: prefix\nling: true\nform: parameterized\n", "4:7", ["no Ling form"]),
     ("scheme: carry-select\nblock: auto\nform: parameterized\n", "4:8", ["needs a number of bits a block"]),
+    ("scheme: carry-skip\nblock: auto\nform: parameterized\n", "4:8", ["needs a number of bits a block"]),
+    ("scheme: carry-skip\nblock: [4, 4, 8]\nform: parameterized\n", "4:8", ["needs a number of bits a block"]),
 ]
 
 

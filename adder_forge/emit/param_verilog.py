@@ -10,7 +10,12 @@ form at each width), by simulation at many widths against Python integer additio
 
 Carry-select (block k, the top block taking the remainder, as in the flat form) ripples block 0 from the
 carry-in and every other block twice, for carry-in 0 and 1, picking with the carry into the block
-(Bedrij 1962, "Carry-select adder"). Not yet here: carry-skip and block-lookahead.
+(Bedrij 1962, "Carry-select adder"). Carry-skip (the same blocks, common practice; Parhami, "Computer
+Arithmetic", gives the uniform-block delay model) ripples every block from its carry-in and bypasses it with a
+MUX2 on the block propagate, a balanced AND tree over its p bits (Verilog's ``&`` reduction, which Yosys's
+simplemap splits into the same pairing as schemes/common.balanced); block 0 has no bypass when there is no
+carry-in port (its carry-in is the constant 0), and the top block none when there is no carry out.
+Not yet here: block-lookahead.
 
 Ports are those of the flat form; what the spec fixes other than the width (carry-in and carry-out ports, the
 prefix network, the block size) is fixed in the text. A block size is a number of bits at every width: when
@@ -61,6 +66,7 @@ def _form(scheme: str, template: str, doc: str) -> None:
 _form("ripple", "param_ripple.v.j2", "ripple-carry, one carry cell a bit")
 _form("behavioral", "param_behavioral.v.j2", "one Verilog +")
 _form("carry-select", "param_carry_select.v.j2", "carry-select with a number of bits a block")
+_form("carry-skip", "param_carry_skip.v.j2", "carry-skip with a number of bits a block")
 _form("prefix", "param_prefix.v.j2", "prefix networks " + ", ".join(PREFIX_NETWORKS) + " (block 1, no ling)")
 
 
