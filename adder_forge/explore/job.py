@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 from ..base.progress import NULL, Progress
@@ -31,7 +31,10 @@ def output_files(out: Outcome, draw: bool = True) -> dict[str, str | bytes]:
 
 
 def run(sweep: Sweep, cache: str | Path | None = None, executor: str = "local", jobs: int | None = None,
-        scheduler: str | None = None, progress: Progress = NULL) -> Outcome:
+        scheduler: str | None = None, progress: Progress = NULL, task_seconds: float | None = None) -> Outcome:
+    """``task_seconds``: a synthesis task's time limit instead of the sweep's own (--task-seconds)."""
+    if task_seconds is not None:
+        sweep = replace(sweep, task_seconds=task_seconds)
     ex = get(executor)
     with ex.open(jobs, scheduler) as pool:
         return run_sweep(sweep, cache or default_root(), pool, progress, store_on_worker=ex.store_on_worker)
@@ -39,12 +42,13 @@ def run(sweep: Sweep, cache: str | Path | None = None, executor: str = "local", 
 
 def explore(path: str | Path, out_dir: str | Path | None = None, cache: str | Path | None = None,
             executor: str = "local", jobs: int | None = None, scheduler: str | None = None,
-            progress: Progress = NULL, force: bool = False, draw: bool = True) -> Explored:
+            progress: Progress = NULL, force: bool = False, draw: bool = True,
+            task_seconds: float | None = None) -> Explored:
     """The whole `explore` command: results into ``out_dir`` (default out/NAME), all-or-nothing."""
     sweep = load_sweep(path)
     target = Path(out_dir) if out_dir is not None else Path("out") / sweep.name
     target = target.resolve()
-    out = run(sweep, cache, executor, jobs, scheduler, progress)
+    out = run(sweep, cache, executor, jobs, scheduler, progress, task_seconds)
     files = output_files(out, draw)
     design = fingerprint(files["results.json"])
     written = write_folders(target.parent, [Folder(target.name, files, design)], force=force)[0]
