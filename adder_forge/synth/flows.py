@@ -320,8 +320,65 @@ def read_nextpnr_report(path: Path, logic: str = "ICESTORM_LC") -> dict:
     clock = next((k for k in fmax if "clk" in k), next(iter(fmax)))
     util = data.get("utilization", {})
     lc = util.get(logic, {})
-    return {"fmax_mhz": round(float(fmax[clock]["achieved"]), 2), "clock": clock,
-            "logic_cells_used": lc.get("used"), "logic_cells_available": lc.get("available")}
+    out = {"fmax_mhz": round(float(fmax[clock]["achieved"]), 2), "clock": clock,
+           "logic_cells_used": lc.get("used"), "logic_cells_available": lc.get("available")}
+    path = critical_path(data.get("critical_paths") or [])
+    return {**out, "critical_path": path} if path else out
+
+
+_CARRY_IN = ("CIN", "FCI")  # iCE40 SB_CARRY/LC, ECP5 CCU2C
+_CARRY_OUT = ("COUT", "FCO")
+
+
+def critical_path(paths: list) -> dict | None:
+    """The longest of nextpnr's critical paths, summed by kind: the register's clock-to-out and setup, the
+    carry-chain steps (carry-in to carry-out of a cell), the entries into a chain (a data pin to a carry-out),
+    the other cell delays (LUTs), and routing; ``steps`` spells it out in order (q, e, c*k, L, r, s)."""
+    best = max(paths, key=lambda p: sum(float(x.get("delay", 0)) for x in p.get("path", [])), default=None)
+    if not best:
+        return None
+    tally = {"clk_to_q": 0.0, "chain": 0.0, "entry": 0.0, "lut": 0.0, "routing": 0.0, "setup": 0.0}
+    counts = {"chain_steps": 0, "entries": 0, "luts": 0, "hops": 0}
+    steps: list[str] = []
+    for x in best.get("path", []):
+        d, kind = float(x.get("delay", 0)), x.get("type")
+        src, dst = x.get("from", {}).get("port", ""), x.get("to", {}).get("port", "")
+        if kind == "routing":
+            tally["routing"] += d
+            if d > 0:  # a dedicated carry link costs nothing and is not a hop through the fabric
+                counts["hops"] += 1
+                steps.append("r")
+            continue
+        if kind == "clk-to-q":
+            tally["clk_to_q"] += d
+            steps.append("q")
+        elif kind == "setup":
+            tally["setup"] += d
+            steps.append("s")
+        elif dst in _CARRY_OUT and src in _CARRY_IN:
+            tally["chain"] += d
+            counts["chain_steps"] += 1
+            steps.append("c")
+        elif dst in _CARRY_OUT:
+            tally["entry"] += d
+            counts["entries"] += 1
+            steps.append("e")
+        else:
+            tally["lut"] += d
+            counts["luts"] += 1
+            steps.append("L")
+    text, k = [], 0
+    for i, t in enumerate(steps + [""]):  # runs of chain steps as c*k
+        if t == "c":
+            k += 1
+            continue
+        if k:
+            text.append(f"c*{k}")
+            k = 0
+        if t:
+            text.append(t)
+    return {"ns": round(sum(tally.values()), 3), **{f"{k}_ns": round(v, 3) for k, v in tally.items()}, **counts,
+            "steps": " ".join(text)}
 
 
 def place(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, carry_out: bool,
