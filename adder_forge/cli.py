@@ -414,7 +414,8 @@ def cmd_explore(args) -> int:
         print(f"  {note}")
     plots = sum(f.endswith((".png", ".svg")) for f in done.files)
     print(f"{sw.name}: results in {done.written.path}/ ({', '.join(f for f in done.files if not f.endswith(('.png', '.svg')))}"
-          + (f" and {plots} plot files)" if plots else ")"))
+          + (f" and {plots} plot files; {done.drawn} plots drawn, {done.reused} unchanged from the cache)"
+             if plots else ")"))
     return EXIT_MISMATCH if any(t.startswith("FAIL") for _, t in bad) else EXIT_OK
 
 

@@ -657,3 +657,33 @@ def test_a_task_process_that_dies_is_an_error_row_and_is_not_cached(tmp_path, mo
     entry = run_mod.run_task(task, str(tmp_path / "cache"))
     assert entry["error"] == "the task's process ended with exit 3: out of memory" and "timed_out" not in entry
     assert cache_mod.Cache(tmp_path / "cache").entries() == []
+
+
+# -- plots are drawn only when what they show changed ----------------------------------------------------------
+@pytest.mark.slow
+def test_an_unchanged_plot_is_not_drawn_again_and_a_changed_one_is(tmp_path, monkeypatch):
+    from adder_forge.explore import report
+
+    first = explore(_tiny(tmp_path), tmp_path / "o", tmp_path / "cache", jobs=1)
+    plots = sorted(f for f in first.files if f.endswith(".png"))
+    assert first.drawn == len(plots) == 8 and first.reused == 0  # 2 widths x 2 pairs, and 4 against width
+    files = {f.name: f.read_bytes() for f in (tmp_path / "o").iterdir() if f.is_file()}
+
+    def no_drawing(d):
+        raise AssertionError(f"{d['stem']} drawn again")
+
+    with monkeypatch.context() as m:
+        m.setattr(report, "DRAW", {"pareto": no_drawing, "width": no_drawing})
+        again = explore(_tiny(tmp_path), tmp_path / "o", tmp_path / "cache", jobs=1)
+    assert again.drawn == 0 and again.reused == 8
+    assert {f.name: f.read_bytes() for f in (tmp_path / "o").iterdir() if f.is_file()} == files
+    # one more width: its own Pareto plots and the plots against width change, the others are taken as they were
+    wider = explore(_tiny(tmp_path, TINY.replace("[8, 16]", "[8, 16, 32]")), tmp_path / "o2", tmp_path / "cache",
+                    jobs=1)
+    assert wider.drawn == 2 + 4 and wider.reused == 4
+    for f in plots:
+        if f.startswith(("pareto_w8_", "pareto_w16_")):
+            assert (tmp_path / "o2" / f).read_bytes() == files[f]
+    # what the cache gave is what drawing it now gives
+    fresh = report.report_files(wider.outcome)
+    assert all(fresh[f] == (tmp_path / "o2" / f).read_bytes() for f in fresh if f.endswith(".png"))

@@ -19,14 +19,17 @@ class Explored:
     outcome: Outcome
     written: Written | None
     files: tuple[str, ...]
+    drawn: int = 0  # plots drawn by this run; the others came from the plot cache unchanged
+    reused: int = 0
 
 
-def output_files(out: Outcome, draw: bool = True) -> dict[str, str | bytes]:
+def output_files(out: Outcome, draw: bool = True, plots=None) -> dict[str, str | bytes]:
+    """``plots``: a report.Plots (where drawn plots are kept and counted), default drawn and not kept."""
     files: dict[str, str | bytes] = {"results.csv": to_csv(out), "results.json": to_json(out)}
     if draw:
         from .report import report_files
 
-        files.update(report_files(out))
+        files.update(report_files(out, plots))
     return files
 
 
@@ -49,7 +52,12 @@ def explore(path: str | Path, out_dir: str | Path | None = None, cache: str | Pa
     target = Path(out_dir) if out_dir is not None else Path("out") / sweep.name
     target = target.resolve()
     out = run(sweep, cache, executor, jobs, scheduler, progress, task_seconds)
-    files = output_files(out, draw)
+    plots = None
+    if draw:
+        from .report import Plots
+
+        plots = Plots(cache or default_root())  # a plot whose data is unchanged is not drawn again
+    files = output_files(out, draw, plots)
     design = fingerprint(files["results.json"])
     written = write_folders(target.parent, [Folder(target.name, files, design)], force=force)[0]
-    return Explored(out, written, tuple(files))
+    return Explored(out, written, tuple(files), plots.drawn if plots else 0, plots.reused if plots else 0)
