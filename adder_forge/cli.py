@@ -116,6 +116,9 @@ def _run_options(p) -> None:
     p.add_argument("--scheduler", metavar="ADDRESS", help="the Dask scheduler for --executor dask (tcp://host:8786)")
     p.add_argument("--jobs", type=int, metavar="N", help="local worker processes (default: one per core; 1: in this process)")
     p.add_argument("--cache", metavar="DIR", help="figure cache (default: $ADDER_FORGE_CACHE or ~/.cache/adder_forge/figures)")
+    p.add_argument("--task-seconds", type=float, metavar="S",
+                   help="time limit of one synthesis task; past it the task's tools are killed and its row says so "
+                        "(default: the sweep's task_seconds, else 1200)")
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -374,6 +377,13 @@ def _check_run_options(args, command: str) -> None:
     get(args.executor, command)
     if args.jobs is not None and args.jobs < 1:
         raise UsageError(f"--jobs must be 1 or more, got {args.jobs}", command, "--jobs")
+    if args.task_seconds is not None:
+        from .explore.sweep import task_seconds
+
+        def fail(why: str):
+            raise UsageError(why, command, "--task-seconds")
+
+        task_seconds(args.task_seconds, fail, "--task-seconds")
 
 
 def cmd_explore(args) -> int:
@@ -381,12 +391,13 @@ def cmd_explore(args) -> int:
 
     _check_run_options(args, "explore")
     done = explore(args.sweep, args.out, args.cache, args.executor, args.jobs, args.scheduler, _progress(),
-                   force=args.force, draw=not args.table_only)
+                   force=args.force, draw=not args.table_only, task_seconds=args.task_seconds)
     out = done.outcome
     sw = out.sweep
     print(f"{sw.name}: {len(sw.points)} adders ({len(sw.labels)} variants incl. + x {len(sw.widths)} widths), "
           f"figures {', '.join(sw.figures)}; {out.computed} tasks computed, {out.cached} from the cache"
-          + (f", {out.failed} failed" if out.failed else ""))
+          + (f", {out.failed} failed" if out.failed else "")
+          + (f" ({out.timed_out} stopped at the {sw.task_seconds:g} s task limit)" if out.timed_out else ""))
     skipped: dict[str, list] = {}
     for s in sw.skipped:
         skipped.setdefault(s.label, []).append(s)
@@ -403,7 +414,8 @@ def cmd_explore(args) -> int:
         print(f"  {note}")
     plots = sum(f.endswith((".png", ".svg")) for f in done.files)
     print(f"{sw.name}: results in {done.written.path}/ ({', '.join(f for f in done.files if not f.endswith(('.png', '.svg')))}"
-          + (f" and {plots} plot files)" if plots else ")"))
+          + (f" and {plots} plot files; {done.drawn} plots drawn, {done.reused} unchanged from the cache)"
+             if plots else ")"))
     return EXIT_MISMATCH if any(t.startswith("FAIL") for _, t in bad) else EXIT_OK
 
 
@@ -415,7 +427,7 @@ def cmd_pick(args) -> int:
     name = args.name or f"pick_w{args.width}"
     target, area = check_args(args.width, args.target, args.max_delay, args.minimize, name)
     sweep = candidates_sweep(args.width, target, args.carry_in, name)
-    out = run(sweep, args.cache, args.executor, args.jobs, args.scheduler, _progress())
+    out = run(sweep, args.cache, args.executor, args.jobs, args.scheduler, _progress(), args.task_seconds)
     picked = choose(out, target, area, args.max_delay, args.minimize)
     print(f"pick: {len(sweep.points)} adders at {args.width} bits ({out.computed} tasks computed, "
           f"{out.cached} from the cache)")

@@ -13,9 +13,12 @@ DOCS = ROOT / "docs"
 
 def load(family: str) -> list[dict]:
     rows = []
-    for p in sorted(RESULTS.glob(f"fpga_{family}*.json")):
+    for p in sorted([*RESULTS.glob(f"fpga_{family}.json"), *RESULTS.glob(f"fpga_{family}_*.json")]):
         rows += json.loads(p.read_text(encoding="utf-8"))
-    latest = {}  # a design measured by two runs: the later file's row
+    # A design measured by two runs: the later file's row, and a measured row before one recovered from an
+    # earlier table (``from_table``: rows whose run's JSON was not kept).
+    rows.sort(key=lambda r: "from_table" not in r)
+    latest = {}
     for r in rows:
         latest[(r["width"], r["label"], r["structure"])] = r
     return sorted(latest.values(), key=lambda r: r["width"])
@@ -35,7 +38,7 @@ def table(family: str, rows: list[dict]) -> list[str]:
         plus = next((r["fmax_mhz"] for r in at if r["label"] == "+" and "fmax_mhz" in r), None)
         for r in at:
             if "error" in r:
-                out.append(f"| {w} | {_name(r)} | | failed: {r['error'][:80]} | | | | |")
+                out.append(f"| {w} | {_name(r)} | | failed: {r['error'][:200]} | | | | |")
                 continue
             ratio = f"{r['fmax_mhz'] / plus:.2f}" if plus else "-"
             blocks = r.get("block_sizes") or ""
@@ -80,11 +83,69 @@ def plot(families: dict[str, list[dict]], path: Path) -> None:
     fig.savefig(path, dpi=110)
 
 
+def _path(r: dict) -> str:
+    p = r.get("critical_path")
+    if not p:
+        return ""
+    return (f"{p['ns']:.2f} ns: {p['steps']} (routing {p['routing_ns']:.2f}, LUTs {p['lut_ns']:.2f}, chain "
+            f"{p['chain_ns'] + p['entry_ns']:.2f})")
+
+
+def sweeps() -> list[str]:
+    """The block-size sweeps (``fpga_hybrids.py blocks``), fastest first, with nextpnr's critical path."""
+    out = []
+    for p in sorted(RESULTS.glob("fpga_blocks_*.json")):
+        rows = json.loads(p.read_text(encoding="utf-8"))
+        ok = sorted((r for r in rows if "fmax_mhz" in r), key=lambda r: -r["fmax_mhz"])
+        if not ok:
+            continue
+        out += [f"### Block sizes: {ok[0]['device']}, {ok[0]['width']} bits (seed {ok[0]['seed']})", "",
+                "| adder | blocks | Fmax, MHz | LUT4 | carry cells | critical path (nextpnr): steps, ns |",
+                "|---|---|---|---|---|---|"]
+        out += [f"| {_name(r)} | {r['block_sizes']} | {r['fmax_mhz']:.2f} | {r['lut4']} | {r['carry_cells']} | "
+                f"{_path(r)} |" for r in ok]
+        out += [f"| {_name(r)} | {r.get('block_sizes', '')} | failed: {r['error'][:80]} | | | |"
+                for r in rows if "error" in r]
+        out.append("")
+    if out:
+        out = ["Steps: q clock to out, r a hop through the routing, e into a carry chain, c*k k chain steps "
+               "(one bit each on iCE40, two on ECP5), L a LUT, s setup.", ""] + out
+    return out
+
+
+def seeds() -> list[str]:
+    """The spread over seeds 1-3 (``fpga_hybrids.py seeds``): min, max and max/min - 1 of each design."""
+    out = []
+    groups = [json.loads(p.read_text(encoding="utf-8")) for p in sorted(RESULTS.glob("fpga_seeds_*.json"))]
+    for p in sorted(RESULTS.glob("fpga_blocks_*_seed*.json")):  # a swept design placed with other seeds too
+        again = [r for r in json.loads(p.read_text(encoding="utf-8")) if "fmax_mhz" in r]
+        first = json.loads((RESULTS / (p.name.rsplit("_seed", 1)[0] + ".json")).read_text(encoding="utf-8"))
+        keys = {(r["label"], r["structure"], r["block_sizes"]) for r in again}
+        groups.append([r for r in first if "fmax_mhz" in r and (r["label"], r["structure"], r["block_sizes"]) in keys]
+                      + again)
+    for rows in groups:
+        if not rows:
+            continue
+        out += [f"### Seeds: {rows[0]['device']}, {rows[0]['width']} bits", "",
+                "| adder | blocks | Fmax by seed, MHz | min | max | spread |", "|---|---|---|---|---|---|"]
+        for key in dict.fromkeys((r["label"], r["structure"], r.get("block_sizes")) for r in rows):
+            at = sorted((r for r in rows if (r["label"], r["structure"], r.get("block_sizes")) == key),
+                        key=lambda r: r["seed"])
+            f = [r["fmax_mhz"] for r in at]
+            by = ", ".join(f"{r['seed']}: {r['fmax_mhz']:.2f}" for r in at)
+            out.append(f"| {_name(at[0])} | {at[0].get('block_sizes') or ''} | {by} | {min(f):.2f} | {max(f):.2f} | "
+                       f"{(max(f) / min(f) - 1) * 100:.1f}% |")
+        out.append("")
+    return out
+
+
 def write_docs() -> int:
-    fams = {"ice40": load("ice40"), "ecp5": load("ecp5")}
+    fams = {"ice40": load("ice40"), "ecp5": load("ecp5"), "ecp5-85k": load("ecp5-85k")}
     lines = ["<!-- written by bench/fpga_hybrids.py table from bench/results/fpga_*.json; do not edit -->", ""]
     for fam, rows in fams.items():
         lines += table(fam, rows)
+    lines += seeds() + sweeps()
+    fams.pop("ecp5-85k")  # the plot: the two families of the issue
     (DOCS / "fpga_tables.md").write_text("\n".join(lines), encoding="utf-8")
     plot(fams, DOCS / "fpga.png")
     return 0

@@ -33,8 +33,10 @@ def constructions() -> list[tuple[str, str, dict]]:
     for scheme in sorted(FORMS):
         if scheme == "prefix":
             out += [(f"prefix:{n}", "prefix", {"prefix": n}) for n in PREFIX_NETWORKS]
-        elif scheme == "carry-select":  # the form needs a number of bits a block; 'auto' is refused
-            out += [(f"carry-select:{k}", scheme, {"block": k}) for k in (4, 3, 1)]
+        elif scheme in ("carry-select", "carry-skip"):  # a number of bits a block; 'auto' and lists are refused
+            out += [(f"{scheme}:{k}", scheme, {"block": k}) for k in (4, 3, 1)]
+        elif scheme == "block-lookahead":  # block size and lookahead group; block 1 gives the most levels
+            out += [(f"{scheme}:{k}:g{grp}", scheme, {"block": k, "group": grp}) for k, grp in ((4, 4), (3, 2), (1, 4))]
         else:
             out.append((scheme, scheme, {}))
     return out

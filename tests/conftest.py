@@ -22,3 +22,15 @@ def golden(name: str, text: str) -> None:
 @pytest.fixture
 def spec():
     return make_spec
+
+
+def run_cli(argv, capsys):
+    """(exit status, stdout, stderr) of one `adder-forge` command run in this process, as a user would see it."""
+    from adder_forge.cli import main
+
+    try:
+        code = main([str(a) for a in argv])
+    except SystemExit as exc:  # argparse's own errors
+        code = exc.code
+    out = capsys.readouterr()
+    return code, out.out, out.err

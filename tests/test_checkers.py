@@ -23,6 +23,7 @@ from adder_forge.emit.design import design
 from adder_forge.ir.passes import break_gate, gate_indices
 from adder_forge.schemes import elaborate
 from adder_forge.spec.loader import make_spec
+from conftest import run_cli
 
 SPEC = "name: {name}\nwidth: 4\nscheme: ripple\n"
 MARKS = {"icarus": [pytest.mark.sim], "verilator": [pytest.mark.sim, pytest.mark.slow], "ghdl": [pytest.mark.ghdl]}
@@ -37,15 +38,6 @@ def broken(name: str = "brk6", width: int = 6):
     spec = make_spec(name, width, "ripple")
     net = elaborate(spec)
     return design(spec, net=break_gate(net, gate_indices(net, "carry")[2]))
-
-
-def run_cli(argv, capsys):
-    try:
-        code = cli.main([str(a) for a in argv])
-    except SystemExit as exc:
-        code = exc.code
-    out = capsys.readouterr()
-    return code, out.out, out.err
 
 
 @pytest.fixture

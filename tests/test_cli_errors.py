@@ -4,7 +4,7 @@ import re
 
 import pytest
 
-from adder_forge.cli import main
+from conftest import run_cli
 
 GOOD = "name: add8\nwidth: 8\nscheme: ripple\n"
 
@@ -30,21 +30,12 @@ CASES = [
 ]
 
 
-def run(argv, capsys):
-    try:
-        code = main(argv)
-    except SystemExit as exc:  # argparse's own errors
-        code = exc.code
-    out = capsys.readouterr()
-    return code, out.out, out.err
-
-
 @pytest.mark.parametrize("text,where,words", CASES, ids=[c[2][0][:30] for c in CASES])
 def test_bad_spec_one_line_exit_2_nothing_written(tmp_path, capsys, text, where, words):
     spec = tmp_path / "bad.yaml"
     spec.write_text(text)
     out = tmp_path / "out"
-    code, stdout, stderr = run(["build", str(spec), "--out", str(out)], capsys)
+    code, stdout, stderr = run_cli(["build", str(spec), "--out", str(out)], capsys)
     assert code == 2
     lines = stderr.strip().splitlines()
     assert len(lines) == 1, stderr
@@ -56,7 +47,7 @@ def test_bad_spec_one_line_exit_2_nothing_written(tmp_path, capsys, text, where,
 
 
 def test_missing_file(tmp_path, capsys):
-    code, _, err = run(["build", str(tmp_path / "nope.yaml"), "--out", str(tmp_path / "o")], capsys)
+    code, _, err = run_cli(["build", str(tmp_path / "nope.yaml"), "--out", str(tmp_path / "o")], capsys)
     assert code == 2 and err.strip() == f"{tmp_path / 'nope.yaml'}:1:1: error: no such file"
 
 
@@ -68,7 +59,7 @@ def test_key_of_another_scheme(tmp_path, capsys):
         pytest.skip("no scheme with a 'block' key registered yet")
     spec = tmp_path / "k.yaml"
     spec.write_text(GOOD + "block: 4\n")
-    code, _, err = run(["build", str(spec), "--out", str(tmp_path / "o")], capsys)
+    code, _, err = run_cli(["build", str(spec), "--out", str(tmp_path / "o")], capsys)
     assert code == 2
     assert re.match(rf"{re.escape(str(spec))}:4:1: error: key 'block' does not apply to scheme 'ripple'", err)
 
@@ -77,13 +68,13 @@ def test_failure_in_second_spec_leaves_existing_outputs(tmp_path, capsys):
     good = tmp_path / "good.yaml"
     good.write_text(GOOD)
     out = tmp_path / "out"
-    assert run(["build", str(good), "--out", str(out)], capsys)[0] == 0
+    assert run_cli(["build", str(good), "--out", str(out)], capsys)[0] == 0
     before = {p.name: p.read_bytes() for p in (out / "add8").iterdir()}
     bad = tmp_path / "bad.yaml"
     bad.write_text("name: other\nwidth: -1\nscheme: ripple\n")
     good2 = tmp_path / "good2.yaml"
     good2.write_text(GOOD.replace("add8", "fresh"))
-    code, _, err = run(["build", str(good), str(good2), str(bad), "--out", str(out)], capsys)
+    code, _, err = run_cli(["build", str(good), str(good2), str(bad), "--out", str(out)], capsys)
     assert code == 2 and f"{bad}:2:8: error:" in err
     assert sorted(p.name for p in out.iterdir()) == ["add8"]  # nothing of good2, no staging folders
     assert {p.name: p.read_bytes() for p in (out / "add8").iterdir()} == before
@@ -94,16 +85,16 @@ def test_duplicate_module_names_rejected(tmp_path, capsys):
     b = tmp_path / "b.yaml"
     a.write_text(GOOD)
     b.write_text(GOOD.replace("ripple", "lookahead"))
-    code, _, err = run(["build", str(a), str(b), "--out", str(tmp_path / "o")], capsys)
+    code, _, err = run_cli(["build", str(a), str(b), "--out", str(tmp_path / "o")], capsys)
     assert code == 2 and f"{b}:1:7: error: module name 'add8' is also used by {a}" in err
 
 
 def test_unknown_simulator_and_bad_option(tmp_path, capsys):
     s = tmp_path / "s.yaml"
     s.write_text(GOOD)
-    code, _, err = run(["verify", str(s), "--sim", "icarsu"], capsys)
+    code, _, err = run_cli(["verify", str(s), "--sim", "icarsu"], capsys)
     assert code == 2 and "unknown simulator 'icarsu' (did you mean 'icarus'?)" in err
-    code, _, err = run(["verify", str(s), "--vectors", "many"], capsys)
+    code, _, err = run_cli(["verify", str(s), "--vectors", "many"], capsys)
     assert code == 2 and len(err.strip().splitlines()) == 1
 
 
@@ -120,7 +111,7 @@ def test_unknown_simulator_and_bad_option(tmp_path, capsys):
 def test_reserved_names_rejected_alone(tmp_path, capsys, name, why):
     spec = tmp_path / "r.yaml"
     spec.write_text(GOOD.replace("add8", name))
-    code, _, err = run(["build", str(spec), "--out", str(tmp_path / "o")], capsys)
+    code, _, err = run_cli(["build", str(spec), "--out", str(tmp_path / "o")], capsys)
     assert code == 2, err
     assert err.startswith(f"{spec}:1:7: error: 'name' '{name}'") and why in err
     assert len(err.strip().splitlines()) == 1 and not (tmp_path / "o").exists()
@@ -132,7 +123,7 @@ def test_a_name_ending_in_plus_is_a_name_like_any_other(tmp_path, capsys):
     a, b = tmp_path / "a.yaml", tmp_path / "b.yaml"
     a.write_text(GOOD.replace("add8", "x"))
     b.write_text(GOOD.replace("add8", "x_plus"))
-    code, _, err = run(["report", str(a), str(b), "--out", str(tmp_path / "o")], capsys)
+    code, _, err = run_cli(["report", str(a), str(b), "--out", str(tmp_path / "o")], capsys)
     assert code == 0, err
 
 
@@ -145,7 +136,7 @@ def test_names_clashing_across_specs(tmp_path, capsys, first, second, why):
     a.write_text(GOOD.replace("add8", first))
     b.write_text(GOOD.replace("add8", second))
     for command in (["build", str(a), str(b), "--out", str(tmp_path / "o")], ["verify", str(a), str(b)]):
-        code, _, err = run(command, capsys)
+        code, _, err = run_cli(command, capsys)
         assert code == 2 and err.startswith(f"{b}:1:7: error: module name '{second}'") and why in err, err
 
 
@@ -156,13 +147,13 @@ def test_names_like_testbench_and_proof_locals_are_fine(tmp_path, capsys):
     for n in ("dut", "vec", "gold", "trigger", "sb_carry", "clk", "STD", "namespace", "main"):
         spec = tmp_path / f"{n}.yaml"
         spec.write_text(GOOD.replace("add8", n))
-        assert run(["build", str(spec), "--out", str(tmp_path / "o")], capsys)[0] == 0
+        assert run_cli(["build", str(spec), "--out", str(tmp_path / "o")], capsys)[0] == 0
 
 
 def test_overlong_name_rejected(tmp_path, capsys):
     spec = tmp_path / "long.yaml"
     spec.write_text(GOOD.replace("add8", "a" * 300))
-    code, _, err = run(["build", str(spec), "--out", str(tmp_path / "o")], capsys)
+    code, _, err = run_cli(["build", str(spec), "--out", str(tmp_path / "o")], capsys)
     assert code == 2 and "at most 128" in err  # before: exit 3, "File name too long" from the file system
 
 
@@ -189,7 +180,7 @@ def test_yaml11_spellings_rejected_with_a_hint(tmp_path, capsys, key, value, wor
     spec = tmp_path / "y.yaml"
     text = GOOD.replace("width: 8", f"width: {value}") if key == "width" else GOOD + f"{key}: {value}\n"
     spec.write_text(text)
-    code, _, err = run(["build", str(spec), "--out", str(tmp_path / "o")], capsys)
+    code, _, err = run_cli(["build", str(spec), "--out", str(tmp_path / "o")], capsys)
     line = 2 if key == "width" else 4
     assert code == 2 and err.startswith(f"{spec}:{line}:") and words in err, err
     assert len(err.strip().splitlines()) == 1
@@ -209,7 +200,7 @@ def test_usage_errors_name_the_command(tmp_path, capsys, argv, start):
     spec = tmp_path / "s.yaml"
     spec.write_text(GOOD)
     argv = [str(spec) if a == "S" else a for a in argv]
-    code, _, err = run(argv, capsys)
+    code, _, err = run_cli(argv, capsys)
     assert code == 2 and err.startswith(start) and "<command line>" not in err, err
     assert len(err.strip().splitlines()) == 1
 
@@ -233,11 +224,11 @@ def test_out_that_is_a_file_is_bad_input(tmp_path, capsys, command):
     spec.write_text(GOOD)
     afile = tmp_path / "notes.txt"
     afile.write_text("mine\n")
-    code, _, err = run([command, str(spec), "--out", str(afile)], capsys)  # before: exit 3
+    code, _, err = run_cli([command, str(spec), "--out", str(afile)], capsys)  # before: exit 3
     assert code == 2 and err.strip() == f"adder-forge {command}: error: --out {afile} is a file, not a folder"
-    code, _, err = run([command, str(spec), "--out", str(afile / "sub")], capsys)
+    code, _, err = run_cli([command, str(spec), "--out", str(afile / "sub")], capsys)
     assert code == 2 and f"cannot be made: {afile} is a file" in err
-    code, _, err = run([command, str(spec), "--out", ""], capsys)  # before: wrote into the current folder
+    code, _, err = run_cli([command, str(spec), "--out", ""], capsys)  # before: wrote into the current folder
     assert code == 2 and err.strip() == f"adder-forge {command}: error: --out needs a folder name"
     assert afile.read_text() == "mine\n"
 
@@ -246,7 +237,7 @@ def test_dump_takes_several_specs(tmp_path, capsys):
     a, b = tmp_path / "a.yaml", tmp_path / "b.yaml"
     a.write_text(GOOD)
     b.write_text(GOOD.replace("add8", "other").replace("ripple", "lookahead"))
-    code, out, _ = run(["dump", str(a), str(b)], capsys)
+    code, out, _ = run_cli(["dump", str(a), str(b)], capsys)
     assert code == 0
     heads = [line for line in out.splitlines() if line.startswith("; ")]
     assert heads == [f"; add8 from {a}", f"; other from {b}"]
@@ -256,13 +247,13 @@ def test_dump_takes_several_specs(tmp_path, capsys):
 def test_report_says_where_it_wrote(tmp_path, capsys):
     spec = tmp_path / "s.yaml"
     spec.write_text(GOOD)
-    code, out, _ = run(["report", str(spec), "--out", str(tmp_path / "o")], capsys)
+    code, out, _ = run_cli(["report", str(spec), "--out", str(tmp_path / "o")], capsys)
     path = tmp_path / "o" / "add8" / "add8.json"
     assert code == 0 and f"add8: figures written to {path}" in out and path.exists()
 
 
 def test_schemes_shows_what_an_absent_key_means(capsys):
-    code, out, _ = run(["schemes"], capsys)
+    code, out, _ = run_cli(["schemes"], capsys)
     assert code == 0 and "prefix (default kogge-stone)" in out and "block (default auto)" in out
 
 
@@ -270,11 +261,11 @@ def test_schemes_shows_what_an_absent_key_means(capsys):
 def test_block_wider_than_width_is_noted(tmp_path, capsys, scheme):
     spec = tmp_path / "w.yaml"
     spec.write_text(f"name: w3\nwidth: 3\nscheme: {scheme}\nblock: 8\n")
-    assert run(["build", str(spec), "--out", str(tmp_path / "o")], capsys)[0] == 0
+    assert run_cli(["build", str(spec), "--out", str(tmp_path / "o")], capsys)[0] == 0
     note = "block 8 is wider than the 3-bit adder: a single block of 3 bits"
     assert f"// note: {note}" in (tmp_path / "o" / "w3" / "w3.v").read_text()
     spec.write_text(f"name: w3\nwidth: 8\nscheme: {scheme}\nblock: 8\n")  # as wide as the adder: no note
-    assert run(["build", str(spec), "--out", str(tmp_path / "o2")], capsys)[0] == 0
+    assert run_cli(["build", str(spec), "--out", str(tmp_path / "o2")], capsys)[0] == 0
     assert "// note: block" not in (tmp_path / "o2" / "w3" / "w3.v").read_text()
 
 
@@ -284,7 +275,7 @@ def test_longest_name_still_gets_its_baseline(tmp_path, capsys):
     from adder_forge.spec.loader import MAX_NAME
     spec = tmp_path / "long.yaml"
     spec.write_text(GOOD.replace("add8", "a" * MAX_NAME))
-    code, out, err = run(["report", str(spec), "--out", str(tmp_path / "o")], capsys)
+    code, out, err = run_cli(["report", str(spec), "--out", str(tmp_path / "o")], capsys)
     assert code == 0, err
 
 
@@ -293,7 +284,7 @@ def test_keep_that_is_a_file_is_bad_input(tmp_path, capsys):
     spec.write_text(GOOD)
     afile = tmp_path / "keep.txt"
     afile.write_text("mine\n")
-    code, _, err = run(["verify", str(spec), "--keep", str(afile)], capsys)  # before: a traceback, exit 1
+    code, _, err = run_cli(["verify", str(spec), "--keep", str(afile)], capsys)  # before: a traceback, exit 1
     assert code == 2 and err.strip() == f"adder-forge verify: error: --keep {afile} is a file, not a folder"
     assert afile.read_text() == "mine\n"
 
@@ -306,6 +297,6 @@ def test_sim_alias_runs_icarus(tmp_path, capsys):
         pytest.skip("Icarus Verilog is not installed")
     spec = tmp_path / "s.yaml"
     spec.write_text(GOOD)
-    code, out, err = run(["verify", str(spec), "--sim", "IVerilog"], capsys)  # before: "did you mean 'verilator'"
+    code, out, err = run_cli(["verify", str(spec), "--sim", "IVerilog"], capsys)  # before: "did you mean 'verilator'"
     assert code == 0, err
     assert re.search(r"^add8\s+icarus\s+pass ", out, re.M) and out.strip().endswith("2 passed, 0 failed"), out

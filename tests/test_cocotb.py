@@ -23,6 +23,7 @@ def test_cocotb_passes(case, simulator, tmp_path):
     d = design(make_spec(**case), tb_random=0)
     o = run_cocotb(d, simulator, tmp_path, random_count=300)
     assert o.ok, o.log
+    assert o.detail.startswith(("exhaustive", "directed carry-chain patterns + 300 random")), o.detail
     if case["name"] == "cc_rip5":
         assert o.passed == 1 << 11  # every input combination, with carry-in
     else:

@@ -121,6 +121,17 @@ def test_a_width_beyond_a_scheme_limit_is_skipped_and_said():
     ("name: s\nwidths: [8]\ncarry_in: no\nvariants:\n  - scheme: ripple\n", "s.yaml:3:11:", "true or false"),
     ("name: s\nwidths: [8]\nvariants:\n  - scheme: ripple\n    width: 8\n", "s.yaml:5:5:", "whole sweep"),
     ("name: s\nwidths: [8\n", "s.yaml:3:1:", "invalid YAML"),
+    ("name: s\nwidths: [8]\ntask_seconds: 0\nvariants:\n  - scheme: ripple\n", "s.yaml:3:15:", "above 0"),
+    ("name: s\nwidths: [8]\ntask_seconds: -60\nvariants:\n  - scheme: ripple\n", "s.yaml:3:15:", "above 0"),
+    ("name: s\nwidths: [8]\ntask_seconds: 20 min\nvariants:\n  - scheme: ripple\n", "s.yaml:3:15:",
+     "number of seconds"),
+    ("name: s\nwidths: [8]\ntask_seconds: true\nvariants:\n  - scheme: ripple\n", "s.yaml:3:15:",
+     "number of seconds"),
+    ("name: s\nwidths: [8]\ntask_seconds: .nan\nvariants:\n  - scheme: ripple\n", "s.yaml:3:15:",
+     "number of seconds"),
+    ("name: s\nwidths: [8]\ntask_seconds: 1e9\nvariants:\n  - scheme: ripple\n", "s.yaml:3:15:", "a week"),
+    ("name: s\nwidths: [8]\ntask_second: 60\nvariants:\n  - scheme: ripple\n", "s.yaml:3:1:",
+     "did you mean 'task_seconds'"),
 ])
 def test_bad_sweep_files_name_file_line_and_column(text, where, words):
     msg = _err(text)
@@ -547,3 +558,132 @@ def test_pool_workers_die_with_a_killed_explore(tmp_path):
                            capture_output=True, text=True)
     assert again.returncode == 0, again.stderr
     assert (tmp_path / "cut" / "results.csv").read_bytes() == (tmp_path / "whole" / "results.csv").read_bytes()
+
+
+# -- the time limit of a synthesis task ------------------------------------------------------------------------
+def test_task_seconds_is_read_and_the_default_is_documented():
+    text = "name: s\nwidths: [8]\nvariants:\n  - scheme: ripple\nfigures: [estimates, generic]\n"
+    from adder_forge.explore.run import task_for
+    from adder_forge.explore.sweep import TASK_SECONDS
+
+    assert parse_sweep(text, "s.yaml").task_seconds == TASK_SECONDS == 1200.0
+    assert f"{TASK_SECONDS:.0f}" in (ROOT / "docs" / "explore.md").read_text()
+    sw = parse_sweep(text + "task_seconds: 90\n", "s.yaml")
+    assert sw.task_seconds == 90.0
+    spec = sw.points[0].spec
+    # the limit applies to synthesis tasks only, and is not part of the cache key
+    assert task_for(spec, "generic", "n", 90.0).limit == 90.0
+    assert task_for(spec, "estimates", "n", 90.0).limit is None and task_for(spec, CHECK, "n", 90.0).limit is None
+    assert task_for(spec, "generic", "n", 90.0).key == task_for(spec, "generic", "n", 5.0).key
+
+
+def test_bad_task_seconds_on_the_command_line_is_one_line_and_exit_2(tmp_path, capsys):
+    from adder_forge.cli import main
+
+    p = _tiny(tmp_path)
+    for bad in ("0", "-3", "nan"):
+        assert main(["explore", str(p), "--task-seconds", bad, "--out", str(tmp_path / "o"),
+                     "--cache", str(tmp_path / "c")]) == 2
+        err = capsys.readouterr().err
+        assert err.startswith("adder-forge explore: error:") and "--task-seconds" in err, err
+        assert err.count("\n") == 1 and "Traceback" not in err
+    assert not (tmp_path / "o").exists() and not (tmp_path / "c").exists()
+
+
+@pytest.mark.synth
+@pytest.mark.slow
+def test_a_synthesis_task_over_its_limit_is_a_failed_row_and_a_larger_limit_measures_it(tmp_path):
+    # A limit shorter than a Python process takes to start: every synthesis task passes it, whatever the load.
+    text = TINY.replace("[8, 16]", "[8]").replace("    prefix: [kogge-stone, brent-kung]\n", "    prefix: sklansky\n")
+    text += "figures: [estimates, generic]\ntask_seconds: 0.001\n"
+    p = _tiny(tmp_path, text)
+    first = explore(p, tmp_path / "o", tmp_path / "cache", jobs=1, draw=False)
+    out = first.outcome
+    n = len(out.sweep.points)
+    assert n == 3 and out.timed_out == out.failed == n and out.computed == 3 * n
+    rows = json.loads((tmp_path / "o" / "results.json").read_text())["rows"]
+    generic = [r for r in rows if r["source"] == "generic"]
+    assert generic and all(r["value"] is None and "task limit of 0.001 s" in r["note"] for r in generic)
+    assert all(r["value"] is not None for r in rows if r["figure"] == "unit_gate_area" and r["scheme"] != "behavioral")
+    assert all(r["check"] == "pass" for r in rows)  # the check and the estimates are not limited
+    from adder_forge.explore.pick import choose, explain
+
+    lines = explain(choose(out, "abc_depth", "abc_cells", 100, "area"))  # pick says what it could not weigh
+    assert lines[0].startswith("no adder meets") and "  not measured, so not considered:" in lines
+    assert sum("task limit of 0.001 s" in line for line in lines) == n
+    # cached with its limit: an unchanged re-run computes nothing and says the same
+    again = explore(p, tmp_path / "o", tmp_path / "cache", jobs=1, draw=False)
+    assert again.outcome.computed == 0 and again.outcome.timed_out == n
+    assert (tmp_path / "o" / "results.json").read_text() == first.written.path.joinpath("results.json").read_text()
+    # a larger limit measures them again, through the process pool too
+    more = explore(p, tmp_path / "o2", tmp_path / "cache", jobs=2, draw=False, task_seconds=600)
+    assert more.outcome.computed == n and more.outcome.failed == 0
+    table = figure_table(more.outcome)
+    assert all(table[q.spec.name]["abc_cells"] for q in more.outcome.sweep.points)
+    # and figures, once measured, serve any limit
+    assert run(load_sweep(p), tmp_path / "cache", jobs=1).computed == 0
+
+
+def _sleeper(tmp_path) -> tuple[str, ...]:
+    """A stand-in for the task's child process: it starts a tool (a sleep) that writes its PID, and waits."""
+    return ("sh", "-c", f"sleep 300 & echo $! > {tmp_path / 'tool.pid'}; wait", "child")
+
+
+@pytest.mark.slow
+@pytest.mark.skipif(not Path("/proc/self/stat").exists(), reason="reads PIDs from /proc (Linux)")
+def test_a_task_over_its_limit_has_its_whole_process_group_killed(tmp_path, monkeypatch):
+    from adder_forge.explore import timed
+
+    monkeypatch.setattr(timed, "CHILD", _sleeper(tmp_path))
+    spec = load_sweep(_tiny(tmp_path)).points[0].spec
+    entry = timed.compute_within(spec, "generic", 10.0, {"adder_forge": "x"})
+    assert entry["timed_out"] == 10.0 and "task limit of 10 s" in entry["error"]
+    tool = int((tmp_path / "tool.pid").read_text())  # written within the 10 s the child had
+    deadline = time.monotonic() + 10
+    while _alive(tool) and time.monotonic() < deadline:
+        time.sleep(0.05)
+    alive = _alive(tool)
+    if alive:
+        os.kill(tool, signal.SIGKILL)  # clean up what the defect left: only the PID this test started
+    assert not alive, "the tool of a timed-out task outlived it"
+
+
+def test_a_task_process_that_dies_is_an_error_row_and_is_not_cached(tmp_path, monkeypatch):
+    from adder_forge.explore import run as run_mod, timed
+
+    monkeypatch.setattr(timed, "CHILD", ("sh", "-c", "echo 'out of memory' >&2; exit 3", "child"))
+    spec = load_sweep(_tiny(tmp_path)).points[0].spec
+    task = run_mod.task_for(spec, "generic", "n", 60.0)
+    entry = run_mod.run_task(task, str(tmp_path / "cache"))
+    assert entry["error"] == "the task's process ended with exit 3: out of memory" and "timed_out" not in entry
+    assert cache_mod.Cache(tmp_path / "cache").entries() == []
+
+
+# -- plots are drawn only when what they show changed ----------------------------------------------------------
+@pytest.mark.slow
+def test_an_unchanged_plot_is_not_drawn_again_and_a_changed_one_is(tmp_path, monkeypatch):
+    from adder_forge.explore import report
+
+    first = explore(_tiny(tmp_path), tmp_path / "o", tmp_path / "cache", jobs=1)
+    plots = sorted(f for f in first.files if f.endswith(".png"))
+    assert first.drawn == len(plots) == 8 and first.reused == 0  # 2 widths x 2 pairs, and 4 against width
+    files = {f.name: f.read_bytes() for f in (tmp_path / "o").iterdir() if f.is_file()}
+
+    def no_drawing(d):
+        raise AssertionError(f"{d['stem']} drawn again")
+
+    with monkeypatch.context() as m:
+        m.setattr(report, "DRAW", {"pareto": no_drawing, "width": no_drawing})
+        again = explore(_tiny(tmp_path), tmp_path / "o", tmp_path / "cache", jobs=1)
+    assert again.drawn == 0 and again.reused == 8
+    assert {f.name: f.read_bytes() for f in (tmp_path / "o").iterdir() if f.is_file()} == files
+    # one more width: its own Pareto plots and the plots against width change, the others are taken as they were
+    wider = explore(_tiny(tmp_path, TINY.replace("[8, 16]", "[8, 16, 32]")), tmp_path / "o2", tmp_path / "cache",
+                    jobs=1)
+    assert wider.drawn == 2 + 4 and wider.reused == 4
+    for f in plots:
+        if f.startswith(("pareto_w8_", "pareto_w16_")):
+            assert (tmp_path / "o2" / f).read_bytes() == files[f]
+    # what the cache gave is what drawing it now gives
+    fresh = report.report_files(wider.outcome)
+    assert all(fresh[f] == (tmp_path / "o2" / f).read_bytes() for f in fresh if f.endswith(".png"))

@@ -39,6 +39,13 @@ def test_ecp5_places_a_small_hybrid(tmp_path):
     assert fig["carry"] >= 3 and fig["lut4"] >= 4  # three 4-bit chains (two CCU2C each), 4 sum selects
     assert fig["fmax_mhz"] > 0 and fig["seed"] == 1 and fig["device"].startswith("ECP5")
     assert "--seed 1" in fig["place_and_route"]
+    # The summed critical path is the period nextpnr reports (1000 / Fmax), and it runs through the
+    # chains: at least one carry-chain entry, and no kind of delay left out of the sum.
+    path = fig["critical_path"]
+    assert path["ns"] == pytest.approx(1000 / fig["fmax_mhz"], rel=0.01)
+    assert path["entries"] >= 1 and path["steps"].startswith("q") and path["steps"].endswith("s")
+    parts = ("clk_to_q", "chain", "entry", "lut", "routing", "setup")
+    assert sum(path[f"{k}_ns"] for k in parts) == pytest.approx(path["ns"], abs=0.01)
 
 
 @pytest.mark.synth

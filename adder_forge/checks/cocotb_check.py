@@ -7,6 +7,8 @@ import sys
 from pathlib import Path
 
 from ..emit.design import Design
+from ..emit.testbench import clocking_summary
+from ..emit.vectors import plan_for
 from ..base.errors import UsageError
 from ..base.tools import Command, run
 from . import simulators
@@ -32,5 +34,10 @@ def run_cocotb(d: Design, simulator: str, workdir: Path, random_count: int = 100
     cmd = Command((sys.executable, "-m", "adder_forge.checks.cocotb_run", "--sim", sim.cocotb, "--source", str(src),
                    "--top", d.spec.name, "--workdir", str(workdir),
                    *(f"--build-arg={a}" for a in sim.cocotb_build_args())), str(workdir), env, timeout)
-    [o] = read(run(cmd), f"cocotb-{sim.name}", [d.spec.name], ["cocotb test passed"])
+    # the row says which vectors and, for a pipelined adder, how they were clocked, as the other checks do;
+    # the count the plan makes is the count the test must report
+    plan = plan_for(d.net.iface, exhaustive_limit, random_count, seed)
+    clocked = clocking_summary(d.net.iface)
+    passing = f"{plan.describe()}; cocotb test passed" + (f"; {clocked}" if clocked else "")
+    [o] = read(run(cmd), f"cocotb-{sim.name}", [d.spec.name], [passing], [plan.count])
     return o

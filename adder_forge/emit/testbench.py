@@ -225,7 +225,7 @@ def clocking_summary(iface) -> str:
     k = clock["latency"]
     text = f"a new vector every edge, each result {k} cycle{'s' if k != 1 else ''} later"
     if clock["enable"]:
-        text += f", a stall every {STALL_EVERY} cycles"
+        text += f", a stall every {clock['stall_every']} cycles"
     if clock["reset"]:
         text += f", {clock['reset']} reset first"
     return text

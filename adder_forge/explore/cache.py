@@ -22,7 +22,7 @@ from pathlib import Path
 
 from ..emit.outputs import fingerprint
 
-FORMAT = 1  # bump when an entry's layout or run.compute changes; older entries then miss
+FORMAT = 1  # bump when an entry's layout or task.compute changes; older entries then miss
 
 
 def default_root() -> Path:

@@ -131,7 +131,7 @@ def explain(p: Picked) -> list[str]:
         lines.append(f"no adder meets {p.target} {bound} {limit} {tu}; the closest:")
         for c in p.closest:
             lines.append(f"  {c.point.label:<32} {p.target} {fmt(c.target)} {tu}, {p.area} {fmt(c.area)} {au}")
-        return lines
+        return lines + unmeasured(p)
     w = p.winner
     what = "least area" if p.minimize == "area" else "least delay"
     if p.plus_wins:
@@ -154,7 +154,19 @@ def explain(p: Picked) -> list[str]:
         lines.append("  runners-up:")
         for c in p.ranked[1:4]:
             lines.append(f"    {c.point.label:<32} {p.target} {fmt(c.target)} {tu}, {p.area} {fmt(c.area)} {au}")
-    return lines
+    return lines + unmeasured(p)
+
+
+def unmeasured(p: Picked) -> list[str]:
+    """The candidates left out because their measurement failed (a tool error, the task time limit): said,
+    not hidden, since one of them might have won."""
+    fam = family_of(p.target)
+    out = []
+    for pt in p.outcome.sweep.points:
+        e = p.outcome.entries.get((pt.spec.name, fam)) or {}
+        if "error" in e:
+            out.append(f"    {pt.label:<32} {e['error']}")
+    return ["  not measured, so not considered:", *out] if out else []
 
 
 def _versus(w: Choice, pl: Choice, p: Picked) -> str:

@@ -11,12 +11,18 @@ mailed or attached to a design review as it is.
 
 from __future__ import annotations
 
+import base64
 import io
+from dataclasses import dataclass
+from functools import lru_cache
 from html import escape
+from pathlib import Path
 
 import yaml
 
+from ..emit.outputs import fingerprint, sha256_text
 from ..emit.prefix_svg import draw_prefix
+from .cache import Cache
 from .figures import ALSO_AGAINST_WIDTH, all_figures, family_figures, pairs_of
 from .results import pareto, point_of, variant_records, versions_by_family
 from .run import Outcome, figure_table, passed
@@ -51,14 +57,13 @@ def _style(labels: tuple[str, ...]) -> dict[str, dict]:
     return out
 
 
-def _save(plt, fig, stem: str, files: dict) -> None:
+def _save(plt, fig) -> dict[str, str | bytes]:
     buf = io.BytesIO()
     fig.savefig(buf, format="png", metadata={"Software": None})
-    files[f"{stem}.png"] = buf.getvalue()
     sbuf = io.StringIO()
     fig.savefig(sbuf, format="svg", metadata={"Date": None, "Creator": None})
-    files[f"{stem}.svg"] = sbuf.getvalue()
     plt.close(fig)
+    return {"png": buf.getvalue(), "svg": sbuf.getvalue()}
 
 
 def _axis_label(name: str) -> str:
@@ -66,8 +71,16 @@ def _axis_label(name: str) -> str:
     return f"{name.replace('_', ' ')} ({f.unit})"
 
 
-def pareto_plots(out: Outcome, files: dict) -> list[dict]:
-    plt = _mpl()
+# -- what each plot shows, as data ------------------------------------------------------------------------------
+# A plot is drawn from a plain mapping of everything it shows (points, colours, labels, title), so that its
+# files are a function of that mapping alone: a re-run whose mapping is unchanged takes the files from the
+# plot cache instead of drawing them again (Plots below).
+def _colour(c) -> list[float]:
+    return [round(float(x), 6) for x in c] if not isinstance(c, str) else c
+
+
+def pareto_plot_data(out: Outcome) -> list[dict]:
+    """One mapping per width and (area, delay) pair that has a point to show."""
     table = figure_table(out)
     raw = figure_table(out, judged=False)
     style = _style(out.sweep.labels)
@@ -79,43 +92,85 @@ def pareto_plots(out: Outcome, files: dict) -> list[dict]:
         pts = [(p, x, y) for p, x, y in pts if x is not None and y is not None]
         if not pts:
             continue
-        fig, ax = plt.subplots(figsize=(9.0, 4.8), layout="constrained")
         front = set(entry["front"])
         other = all_figures()[delay].shown_instead
+        points = []
         for p, x, y in pts:
             st = style[p.label]
             ok = passed(out, p)
             note = f" ({other.replace('_', ' ')})" if other and raw[p.spec.name].get(other) is not None else ""
-            ax.plot([y], [x], linestyle="none", marker=st["marker"], color=st["color"],
-                    markersize=st["markersize"], markeredgecolor="black" if ok else "red",
-                    markeredgewidth=0.5 if ok else 2.0, label=p.label + note + ("" if ok else " (check FAILED)"))
-        fr = sorted(((y, x) for p, x, y in pts if p.spec.name in front))
-        if fr:
-            sx, sy = [], []
-            for k, (y, x) in enumerate(fr):
-                if k:
-                    sx.append(y)
-                    sy.append(fr[k - 1][1])
-                sx.append(y)
-                sy.append(x)
-            ax.plot(sx, sy, color="#d62728", linewidth=1.2, alpha=0.8, zorder=0, label="Pareto front")
-            ax.plot([y for y, _ in fr], [x for _, x in fr], linestyle="none", marker="o", markersize=15,
-                    markerfacecolor="none", markeredgecolor="#d62728", markeredgewidth=1.2)
-        ax.set_xlabel(_axis_label(delay))
-        ax.set_ylabel(_axis_label(area))
+            points.append({"x": y, "y": x, "ok": ok, "label": p.label + note + ("" if ok else " (check FAILED)"),
+                           "colour": _colour(st["color"]), "marker": st["marker"], "size": st["markersize"]})
         areas = [x for _, x, _ in pts if x]
-        if areas and max(areas) > 8 * min(areas):  # a flat lookahead beside a ripple: a log scale
-            _log_axis(ax)
-        ax.margins(0.07)
-        if all_figures()[delay].better == "higher":
-            ax.invert_xaxis()  # faster to the left, as for every other delay figure
-        ax.set_title(f"{out.sweep.name}, {w} bits: {area} against {delay}; lower left is better", fontsize=9)
-        ax.grid(True, alpha=0.3)
-        fig.legend(loc="outside right upper", frameon=False, numpoints=1)
-        stem = f"pareto_w{w}_{delay}"
-        _save(plt, fig, stem, files)
-        made.append({"stem": stem, **entry})
+        made.append({"kind": "pareto", "stem": f"pareto_w{w}_{delay}", "entry": entry, "points": points,
+                     "front": sorted([y, x] for p, x, y in pts if p.spec.name in front),
+                     "xlabel": _axis_label(delay), "ylabel": _axis_label(area),
+                     "log": bool(areas and max(areas) > 8 * min(areas)),  # a flat lookahead beside a ripple
+                     "invert": all_figures()[delay].better == "higher",  # faster to the left, as for any delay
+                     "title": f"{out.sweep.name}, {w} bits: {area} against {delay}; lower left is better"})
     return made
+
+
+def width_plot_data(out: Outcome) -> list[dict]:
+    """One mapping per figure shown against width that some adder has (none for a sweep of one width)."""
+    if len(out.sweep.widths) < 2:
+        return []
+    table = figure_table(out)
+    style = _style(out.sweep.labels)
+    figs = all_figures()
+    made = []
+    for name, is_area in shown_figures(out.sweep.figures):
+        f = figs[name]
+        lines = []
+        for lab in out.sweep.labels:
+            xs, ys = [], []
+            for p in out.sweep.points:
+                v = table[p.spec.name][f.name]
+                if p.label == lab and v is not None:
+                    xs.append(p.spec.width)
+                    ys.append(v)
+            if xs:
+                st = style[lab]
+                lines.append({"label": lab, "x": xs, "y": ys, "colour": _colour(st["color"]),
+                              "marker": st["marker"], "size": st["markersize"] - 1})
+        if lines:
+            made.append({"kind": "width", "stem": f"width_{f.name}", "lines": lines, "widths": list(out.sweep.widths),
+                         "log": is_area, "ylabel": _axis_label(f.name),
+                         "title": f"{out.sweep.name}: {f.name} against width ({f.doc})"})
+    return made
+
+
+# -- drawing ---------------------------------------------------------------------------------------------------
+def draw_pareto(d: dict) -> dict[str, str | bytes]:
+    plt = _mpl()
+    fig, ax = plt.subplots(figsize=(9.0, 4.8), layout="constrained")
+    for pt in d["points"]:
+        ax.plot([pt["x"]], [pt["y"]], linestyle="none", marker=pt["marker"], color=pt["colour"],
+                markersize=pt["size"], markeredgecolor="black" if pt["ok"] else "red",
+                markeredgewidth=0.5 if pt["ok"] else 2.0, label=pt["label"])
+    fr = d["front"]
+    if fr:
+        sx, sy = [], []
+        for k, (y, x) in enumerate(fr):
+            if k:
+                sx.append(y)
+                sy.append(fr[k - 1][1])
+            sx.append(y)
+            sy.append(x)
+        ax.plot(sx, sy, color="#d62728", linewidth=1.2, alpha=0.8, zorder=0, label="Pareto front")
+        ax.plot([y for y, _ in fr], [x for _, x in fr], linestyle="none", marker="o", markersize=15,
+                markerfacecolor="none", markeredgecolor="#d62728", markeredgewidth=1.2)
+    ax.set_xlabel(d["xlabel"])
+    ax.set_ylabel(d["ylabel"])
+    if d["log"]:
+        _log_axis(ax)
+    ax.margins(0.07)
+    if d["invert"]:
+        ax.invert_xaxis()
+    ax.set_title(d["title"], fontsize=9)
+    ax.grid(True, alpha=0.3)
+    fig.legend(loc="outside right upper", frameon=False, numpoints=1)
+    return _save(plt, fig)
 
 
 def _log_axis(ax) -> None:
@@ -129,47 +184,77 @@ def _log_axis(ax) -> None:
     ax.yaxis.set_minor_locator(LogLocator(base=10, subs=()))
 
 
-def width_plots(out: Outcome, files: dict) -> list[str]:
-    if len(out.sweep.widths) < 2:
-        return []
+def draw_width(d: dict) -> dict[str, str | bytes]:
     plt = _mpl()
-    table = figure_table(out)
-    style = _style(out.sweep.labels)
-    stems = []
-    figs = all_figures()
-    for name, is_area in shown_figures(out.sweep.figures):
-        f = figs[name]
-        fig, ax = plt.subplots(figsize=(9.0, 4.8), layout="constrained")
-        drawn = False
-        for lab in out.sweep.labels:
-            xs, ys = [], []
-            for p in out.sweep.points:
-                v = table[p.spec.name][f.name]
-                if p.label == lab and v is not None:
-                    xs.append(p.spec.width)
-                    ys.append(v)
-            if xs:
-                st = style[lab]
-                ax.plot(xs, ys, marker=st["marker"], color=st["color"], markersize=st["markersize"] - 1,
-                        markeredgecolor="black", markeredgewidth=0.5, linewidth=1.2, label=lab)
-                drawn = True
-        if not drawn:
-            plt.close(fig)
-            continue
-        ax.set_xscale("log", base=2)
-        ax.set_xticks(list(out.sweep.widths), [str(w) for w in out.sweep.widths])
-        ax.minorticks_off()
-        if is_area:
-            _log_axis(ax)
-        ax.set_xlabel("width (bits)")
-        ax.set_ylabel(_axis_label(f.name))
-        ax.set_title(f"{out.sweep.name}: {f.name} against width ({f.doc})", fontsize=9)
-        ax.grid(True, alpha=0.3, which="both")
-        fig.legend(loc="outside right upper", frameon=False)
-        stem = f"width_{f.name}"
-        _save(plt, fig, stem, files)
-        stems.append(stem)
-    return stems
+    fig, ax = plt.subplots(figsize=(9.0, 4.8), layout="constrained")
+    for ln in d["lines"]:
+        ax.plot(ln["x"], ln["y"], marker=ln["marker"], color=ln["colour"], markersize=ln["size"],
+                markeredgecolor="black", markeredgewidth=0.5, linewidth=1.2, label=ln["label"])
+    ax.set_xscale("log", base=2)
+    ax.set_xticks(d["widths"], [str(w) for w in d["widths"]])
+    ax.minorticks_off()
+    if d["log"]:
+        _log_axis(ax)
+    ax.set_xlabel("width (bits)")
+    ax.set_ylabel(d["ylabel"])
+    ax.set_title(d["title"], fontsize=9)
+    ax.grid(True, alpha=0.3, which="both")
+    fig.legend(loc="outside right upper", frameon=False)
+    return _save(plt, fig)
+
+
+DRAW = {"pareto": draw_pareto, "width": draw_width}
+PLOT_FORMAT = 1  # bump when what a plot mapping means changes
+
+
+@lru_cache(maxsize=None)
+def _drawing_code() -> str:
+    """What a plot's files depend on besides its mapping: this module's code and matplotlib's version."""
+    import matplotlib
+
+    return sha256_text(Path(__file__).read_text(encoding="utf-8") + "\0" + matplotlib.__version__)[:16]
+
+
+@dataclass
+class Plots:
+    """Draws plots, or takes them from the plot cache (``ROOT/plots/``, beside the figure entries; None: no
+    cache) when their mapping, this module and matplotlib are as they were. Counts what it did."""
+
+    root: str | Path | None
+    drawn: int = 0
+    reused: int = 0
+
+    def files(self, d: dict) -> dict[str, str | bytes]:
+        cache = Cache(Path(self.root) / "plots") if self.root is not None else None
+        k = fingerprint(PLOT_FORMAT, _drawing_code(), {key: v for key, v in d.items() if key != "entry"})
+        hit = cache.get(k) if cache is not None else None
+        if hit is not None and isinstance(hit.get("png"), str) and isinstance(hit.get("svg"), str):
+            try:
+                self.reused += 1
+                return {"png": base64.b64decode(hit["png"], validate=True), "svg": hit["svg"]}
+            except ValueError:
+                self.reused -= 1  # a damaged entry: draw again
+        got = DRAW[d["kind"]](d)
+        self.drawn += 1
+        if cache is not None:
+            cache.put(k, {"png": base64.b64encode(got["png"]).decode("ascii"), "svg": got["svg"]})
+        return got
+
+
+def _drawn(datas: list[dict], files: dict, plots: Plots | None) -> list[dict]:
+    plots = plots or Plots(None)
+    for d in datas:
+        got = plots.files(d)
+        files[f"{d['stem']}.png"], files[f"{d['stem']}.svg"] = got["png"], got["svg"]
+    return datas
+
+
+def pareto_plots(out: Outcome, files: dict, plots: Plots | None = None) -> list[dict]:
+    return [{"stem": d["stem"], **d["entry"]} for d in _drawn(pareto_plot_data(out), files, plots)]
+
+
+def width_plots(out: Outcome, files: dict, plots: Plots | None = None) -> list[str]:
+    return [d["stem"] for d in _drawn(width_plot_data(out), files, plots)]
 
 
 def shown_figures(families) -> list[tuple[str, bool]]:
@@ -291,11 +376,13 @@ def _inline(svg: str) -> str:
     return svg[start:] if start >= 0 else svg
 
 
-def report_files(out: Outcome) -> dict[str, str | bytes]:
+def report_files(out: Outcome, plots: Plots | None = None) -> dict[str, str | bytes]:
+    """The plots and report.html. ``plots``: where drawn plots are kept and counted (default: drawn, not kept)."""
+    plots = plots or Plots(None)
     files: dict[str, str | bytes] = {}
-    plots = pareto_plots(out, files)
-    wplots = width_plots(out, files)
-    files["report.html"] = html_report(out, files, plots, wplots)
+    made = pareto_plots(out, files, plots)
+    wplots = width_plots(out, files, plots)
+    files["report.html"] = html_report(out, files, made, wplots)
     return files
 
 

@@ -9,7 +9,10 @@ file system are kept as well.
 
 A failure is a result: a mismatch found by the built-in check is recorded (and cached, since it is what
 the adder does), a tool error or a crashed worker is recorded and not cached (the next run tries again);
-neither stops the sweep, and every table, plot and `pick` shows it.
+neither stops the sweep, and every table, plot and `pick` shows it. A synthesis task runs under the
+sweep's time limit (``task_seconds``, timed.py): one that passes it is recorded as a failed row, and
+cached with its limit, so that an unchanged re-run computes nothing while a run with a larger limit (or
+none) measures the adder again.
 """
 
 from __future__ import annotations
@@ -20,7 +23,6 @@ from concurrent.futures import FIRST_COMPLETED, wait
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
-from ..base.errors import AdderForgeError
 from ..base.progress import NULL, Progress
 from ..spec.loader import Spec
 from .cache import Cache, key as cache_key
@@ -28,10 +30,8 @@ from ..base.records import Record, from_dict
 from .figures import family_figures, tool_versions
 from ..emit.outputs import sha256_text
 from .sweep import ESTIMATES, Point, Sweep
+from .task import CHECK, CHECK_RANDOM, CHECK_SEED, compute
 
-CHECK = "check"  # the built-in check, a family of its own: it runs once per adder, whatever is measured
-CHECK_RANDOM = 2000  # random vectors beside the directed ones, where the check is not exhaustive
-CHECK_SEED = 1
 
 
 @dataclass(frozen=True)
@@ -39,6 +39,7 @@ class Task:
     spec: Spec
     family: str
     key: str
+    limit: float | None = None  # seconds, for a synthesis task (timed.py); not part of the key
 
 
 KEY_NAME = "adder"  # the name every network is elaborated under for its key: a name changes no figure
@@ -52,64 +53,27 @@ def ir_digest(spec: Spec) -> str:
     return sha256_text(dump(elaborate(replace(spec, name=KEY_NAME))))
 
 
-def task_for(spec: Spec, family: str, network: str) -> Task:
+def task_for(spec: Spec, family: str, network: str, limit: float | None = None) -> Task:
     """``network``: ir_digest(spec). The key: the network, the family, the code and tools that measure it
-    (figures.tool_versions) and, for the check, its vector plan."""
+    (figures.tool_versions) and, for the check, its vector plan. ``limit`` applies to a synthesis task
+    only (the check and the estimates run in the worker itself)."""
     extra = {"random": CHECK_RANDOM, "seed": CHECK_SEED} if family == CHECK else None
-    return Task(spec, family, cache_key({"network": network}, family, tool_versions(family), extra))
+    timed = limit if family not in (CHECK, ESTIMATES) else None
+    return Task(spec, family, cache_key({"network": network}, family, tool_versions(family), extra), timed)
 
 
-def compute(spec: Spec, family: str) -> dict:
-    """One task's entry: {"family", "versions", "records" (dicts of base.records.Record), "note"} or
-    {"family", "versions", "error"}. The records are the ones `report` makes of the same adder."""
-    from ..analysis import figures as analysis_figures
-    from ..analysis.structure import metrics
-    from ..base.records import make_records
-    from ..schemes import elaborate
-    from ..synth.flows import get_flow, synthesize, tool_version
-    from ..synth.measure import spec_digest
-
-    versions = tool_versions(family)
-    try:
-        net = elaborate(spec)
-        if family == CHECK:
-            return {"family": family, "versions": versions, "result": _check(spec, net)}
-        digest = spec_digest(spec)
-        m = metrics(net)
-        if family == ESTIMATES:
-            from ..analysis.delay import estimates
-
-            est = estimates(net)
-            raw_of = {"netlist": m, "estimates": est}
-            recs = []
-            for src, figs in analysis_figures.SOURCES.items():
-                recs += make_records(spec.name, digest, src, figs, raw_of[src], analysis_figures.TOOL, tool_version)
-            return {"family": family, "versions": versions, "records": [r.to_dict() for r in recs],
-                    "note": est.get("note", "")}
-        from ..emit.summary import header_lines
-        from ..emit.verilog import emit_module
-
-        flow = get_flow(family)
-        verilog = emit_module(net, header_lines(spec, m, net.meta))
-        raw = synthesize(family, spec.name, verilog, width=spec.width, carry_in=spec.carry_in,
-                         carry_out=spec.carry_out)
-        seed = raw.get("seed") if isinstance(raw.get("seed"), int) else None
-        recs = make_records(spec.name, digest, family, flow.figures, raw, flow.main_tool, tool_version, seed)
-        mapper = str(raw.get("mapper", ""))  # the LUT mapper, when abc9 had to give way to classic ABC
-        return {"family": family, "versions": versions, "records": [r.to_dict() for r in recs],
-                "note": "" if mapper in ("", "abc9") else f"mapped by {mapper}"}
-    except AdderForgeError as exc:
-        hint = getattr(exc, "hint", "")
-        why = str(getattr(exc, "message", exc)) + (f": {hint.strip().splitlines()[-1]}" if hint and hint.strip() else "")
-        return {"family": family, "versions": versions, "error": why}
+def usable(entry: dict | None, task: Task) -> dict | None:
+    """A cached entry this task may take: any entry but a time-out under a smaller limit than the task's
+    (a run with a larger limit, or none, measures the adder again)."""
+    if entry is None or "timed_out" not in entry:
+        return entry
+    return entry if task.limit is not None and task.limit <= entry["timed_out"] else None
 
 
-def _check(spec: Spec, net) -> dict:
-    from ..checks.builtin import check
-    from ..checks.verify import builtin_plan
-
-    r = check(net, builtin_plan(spec, CHECK_RANDOM, CHECK_SEED), workers=1)
-    return {"ok": r.ok, "vectors": r.vectors, "failed": r.failed, "detail": r.detail}
+def storable(entry: dict) -> bool:
+    """Figures, a check's verdict and a time-out are cached (a time-out with its limit: an unchanged re-run
+    computes nothing); a tool error or a crashed worker is not, and the next run tries again."""
+    return "error" not in entry or "timed_out" in entry
 
 
 def run_task(task: Task, cache_root: str | None) -> dict:
@@ -117,12 +81,17 @@ def run_task(task: Task, cache_root: str | None) -> dict:
     ``computed`` and ``seconds`` say what this call did; neither is stored."""
     cache = Cache(cache_root) if cache_root else None
     if cache is not None:
-        hit = cache.get(task.key)
+        hit = usable(cache.get(task.key), task)
         if hit is not None:
             return {**hit, "computed": False}
     t0 = time.monotonic()
-    entry = compute(task.spec, task.family)
-    if cache is not None and "error" not in entry:
+    if task.limit is not None:
+        from .timed import compute_within
+
+        entry = compute_within(task.spec, task.family, task.limit, tool_versions(task.family))
+    else:
+        entry = compute(task.spec, task.family)
+    if cache is not None and storable(entry):
         cache.put(task.key, entry)
     return {**entry, "computed": True, "seconds": round(time.monotonic() - t0, 3)}
 
@@ -133,7 +102,8 @@ class Outcome:
     entries: dict[tuple[str, str], dict]  # (spec name, family) -> entry
     computed: int = 0
     cached: int = 0
-    failed: int = 0  # tasks that ended in an error (a tool, a crashed worker); not a check mismatch
+    failed: int = 0  # tasks that ended in an error (a tool, a crashed worker, a time-out); not a check mismatch
+    timed_out: int = 0  # of those, the synthesis tasks stopped at the task limit
     seconds: dict[str, float] = field(default_factory=dict)  # family -> time spent computing
 
 
@@ -151,11 +121,13 @@ def run_sweep(sweep: Sweep, cache_root: str | Path, executor=None, progress: Pro
     for p in sweep.points:
         network = ir_digest(p.spec)
         for fam in families(sweep):
-            t = task_for(p.spec, fam, network)
-            hit = cache.get(t.key)
+            t = task_for(p.spec, fam, network, sweep.task_seconds)
+            hit = usable(cache.get(t.key), t)
             if hit is not None:
                 out.entries[(p.spec.name, fam)] = hit
                 out.cached += 1
+                out.failed += "error" in hit
+                out.timed_out += "timed_out" in hit
             else:
                 todo.append(t)
     with progress.task(f"{sweep.name}: adders x figures", total=len(todo), unit="tasks") as bar:
@@ -166,9 +138,9 @@ def run_sweep(sweep: Sweep, cache_root: str | Path, executor=None, progress: Pro
             else:
                 out.cached += 1
             entry.pop("seconds", None)
-            if "error" in entry:
-                out.failed += 1
-            elif cache.get(t.key) is None:
+            out.failed += "error" in entry
+            out.timed_out += "timed_out" in entry
+            if storable(entry) and usable(cache.get(t.key), t) is None:
                 cache.put(t.key, entry)
             out.entries[(t.spec.name, t.family)] = entry
             bar.advance()

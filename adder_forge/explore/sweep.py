@@ -29,7 +29,7 @@ from __future__ import annotations
 import hashlib
 import itertools
 import re
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -43,7 +43,11 @@ from ..spec.registry import MAX_WIDTH, schemes, shown, suggest, type_name
 BASELINE = "behavioral"
 EVERY = "all"
 ESTIMATES = "estimates"  # figures read off the IR; every other family is a synthesis flow
-TOP_KEYS = ("name", "widths", "carry_in", "carry_out", "variants", "figures")
+TOP_KEYS = ("name", "widths", "carry_in", "carry_out", "variants", "figures", "task_seconds")
+# A synthesis task's time limit, seconds (the sweep's `task_seconds`, the command's --task-seconds): a
+# sweep of every scheme goes on past a flat lookahead whose synthesis would take hours.
+TASK_SECONDS = 1200.0
+MAX_TASK_SECONDS = 7 * 24 * 3600.0
 _IDENT = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
 MAX_POINTS = 20000  # widths x variants; a sweep past this is a typing slip, not a plan
 
@@ -78,6 +82,7 @@ class Sweep:
     points: tuple[Point, ...]
     skipped: tuple[Skipped, ...] = ()
     labels: tuple[str, ...] = ()  # every variant label in file order, `+` first
+    task_seconds: float = TASK_SECONDS  # a synthesis task's time limit
 
 
 # -- reading ---------------------------------------------------------------------------------------------------
@@ -137,11 +142,25 @@ def parse_sweep(text: str, source: str = "<sweep>", flows=None) -> Sweep:
                 loc.fail(nodes[key][1], f"'{key}' must be true or false, got {type_name(v)}", key)
             flags[key] = v
     families = _figures(loc, nodes.get("figures", (None, None))[1], flows)
+    seconds = TASK_SECONDS
+    if "task_seconds" in nodes:
+        seconds = task_seconds(construct(nodes["task_seconds"][1], "task_seconds", source),
+                               lambda why: loc.fail(nodes["task_seconds"][1], why, "task_seconds"))
     variants = _variants(loc, nodes["variants"][1])
     if len(widths) * (len(variants) + 1) > MAX_POINTS:
         loc.fail(nodes["variants"][1], f"{len(widths)} widths x {len(variants)} variants is more than "
                                        f"{MAX_POINTS} adders: split the sweep", "variants")
-    return _expand(loc, name, widths, flags, families, variants, nodes)
+    sweep = _expand(loc, name, widths, flags, families, variants, nodes)
+    return replace(sweep, task_seconds=seconds)
+
+
+def task_seconds(value, fail, what: str = "'task_seconds'") -> float:
+    """A time limit as given (the sweep key, the option): a number of seconds above 0; ``fail(why)`` raises."""
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or value != value:
+        fail(f"{what} must be a number of seconds, got {type_name(value)}")
+    if not 0 < value <= MAX_TASK_SECONDS:
+        fail(f"{what} must be above 0 and at most {MAX_TASK_SECONDS:.0f} (a week), got {shown(value)}")
+    return float(value)
 
 
 def _widths(loc: _Loc, node) -> tuple[int, ...]:

@@ -18,7 +18,7 @@ from . import chain_blocks as cb
 from .prefix_networks import NETWORKS, build, final_refs, prune
 from ..spec.registry import choice_option, scheme
 from .blocksizes import validate_block
-from .common import finish
+from .common import finish, prefix_cells
 
 PREFIX = choice_option("prefix", sorted(k for k, v in NETWORKS.items() if v.param is None), "sklansky",
                        "the prefix network over the blocks")
@@ -49,17 +49,7 @@ def chain_prefix(spec):
     graph = prune(build(spec.opt("prefix"), m), outs, f"{spec.opt('prefix')} over {m} blocks")
     gen = [c1] + [ch.g for ch in chains]
     prop = [None] + [ch.t for ch in chains]
-    G: list[int] = []
-    P: list[int | None] = []
-
-    def val(r: int):
-        return (gen[-1 - r], prop[-1 - r]) if r < 0 else (G[r], P[r])
-
-    for c in graph.cells:
-        (gh, ph), (gl, pl) = val(c.hi), val(c.lo)
-        name = f"B{c.col}_{c.low}"
-        G.append(b.AO21(ph, gl, gh, "G" + name, "prefix"))
-        P.append(None if c.gray else b.AND(ph, pl, "T" + name, "prefix"))
+    val = prefix_cells(b, graph, gen, prop, p="T", tag="B")
     last = final_refs(graph)
     for j, ch in enumerate(chains, start=1):
         sums += cb.select_sums(f, val(last[j - 1])[0], ch)

@@ -92,3 +92,27 @@ def balanced(b: Builder, op, items: list[int], name: str = "", role: str = "") -
             nxt.append(level[-1])
         level = nxt
     return b.name_node(level[0], name) if name else level[0]
+
+
+def prefix_cells(b: Builder, graph: PrefixGraph, gen: list[int], prop: list[int | None], *, g: str = "G",
+                 p: str = "P", tag: str = "", merge_first=None):
+    """The gates of ``graph``'s cells over input columns ``gen``/``prop`` (column i's generate and
+    propagate; a column with no propagate has None): an AO21 for G = G_hi | P_hi & G_lo, and an AND2 for
+    P = P_hi & P_lo unless the cell is gray, named g/p + tag + "<col>_<low>" with role prefix. Returns
+    ``val(r)``, the (generate, propagate) of graph reference r (an input column for r < 0, else cell r).
+    ``merge_first(cell, gh, gl)``, when given, may return the generate gate of a cell instead (Ling's OR2
+    of two adjacent inputs), or None for the AO21."""
+    G: list[int] = []
+    P: list[int | None] = []
+
+    def val(r: int):
+        return (gen[-1 - r], prop[-1 - r]) if r < 0 else (G[r], P[r])
+
+    for c in graph.cells:
+        (gh, ph), (gl, pl) = val(c.hi), val(c.lo)
+        assert ph is not None and (c.gray or pl is not None), "a gray cell's propagate is read"
+        name = f"{tag}{c.col}_{c.low}"
+        first = merge_first(c, gh, gl, g + name) if merge_first else None
+        G.append(first if first is not None else b.AO21(ph, gl, gh, g + name, "prefix"))
+        P.append(None if c.gray else b.AND(ph, pl, p + name, "prefix"))
+    return val

