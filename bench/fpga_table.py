@@ -38,7 +38,7 @@ def table(family: str, rows: list[dict]) -> list[str]:
         plus = next((r["fmax_mhz"] for r in at if r["label"] == "+" and "fmax_mhz" in r), None)
         for r in at:
             if "error" in r:
-                out.append(f"| {w} | {_name(r)} | | failed: {r['error'][:80]} | | | | |")
+                out.append(f"| {w} | {_name(r)} | | failed: {r['error'][:200]} | | | | |")
                 continue
             ratio = f"{r['fmax_mhz'] / plus:.2f}" if plus else "-"
             blocks = r.get("block_sizes") or ""
@@ -116,14 +116,21 @@ def sweeps() -> list[str]:
 def seeds() -> list[str]:
     """The spread over seeds 1-3 (``fpga_hybrids.py seeds``): min, max and max/min - 1 of each design."""
     out = []
-    for p in sorted(RESULTS.glob("fpga_seeds_*.json")):
-        rows = json.loads(p.read_text(encoding="utf-8"))
+    groups = [json.loads(p.read_text(encoding="utf-8")) for p in sorted(RESULTS.glob("fpga_seeds_*.json"))]
+    for p in sorted(RESULTS.glob("fpga_blocks_*_seed*.json")):  # a swept design placed with other seeds too
+        again = [r for r in json.loads(p.read_text(encoding="utf-8")) if "fmax_mhz" in r]
+        first = json.loads((RESULTS / (p.name.rsplit("_seed", 1)[0] + ".json")).read_text(encoding="utf-8"))
+        keys = {(r["label"], r["structure"], r["block_sizes"]) for r in again}
+        groups.append([r for r in first if "fmax_mhz" in r and (r["label"], r["structure"], r["block_sizes"]) in keys]
+                      + again)
+    for rows in groups:
         if not rows:
             continue
         out += [f"### Seeds: {rows[0]['device']}, {rows[0]['width']} bits", "",
                 "| adder | blocks | Fmax by seed, MHz | min | max | spread |", "|---|---|---|---|---|---|"]
-        for key in dict.fromkeys((r["label"], r["structure"]) for r in rows):
-            at = [r for r in rows if (r["label"], r["structure"]) == key]
+        for key in dict.fromkeys((r["label"], r["structure"], r.get("block_sizes")) for r in rows):
+            at = sorted((r for r in rows if (r["label"], r["structure"], r.get("block_sizes")) == key),
+                        key=lambda r: r["seed"])
             f = [r["fmax_mhz"] for r in at]
             by = ", ".join(f"{r['seed']}: {r['fmax_mhz']:.2f}" for r in at)
             out.append(f"| {_name(at[0])} | {at[0].get('block_sizes') or ''} | {by} | {min(f):.2f} | {max(f):.2f} | "

@@ -34,9 +34,12 @@ def assert_prefix(g, n):
 
 
 # -- the dynamic program ---------------------------------------------------------------------------------------
-@pytest.mark.parametrize("n, want", [(16, 31), (32, 74)])
+@pytest.mark.parametrize("n, want", [(16, 31), (32, 74), (64, 167), (128, 364)])
 def test_dp_reaches_sergeev_minimum_at_depth_log2_n(n, want):
-    """At depth log2 n the program's network has exactly Sergeev 2013's minimum at 16 and 32 inputs."""
+    """At depth log2 n the program's network has exactly the minimum size of Sergeev 2013 (I. S. Sergeev,
+    "On the complexity of parallel prefix circuits", ECCC TR13-041): 3.5 * 2^k - (8.5 + 3.5 (k mod 2))
+    * 2^floor(k/2) + k + 5 cells on 2^k inputs, 31, 74, 167 and 364 at k = 4 .. 7 (Ladner and Fischer's
+    P_0 has 168 and 369 at 64 and 128)."""
     d = (n - 1).bit_length()
     assert Solver(d).cost(n) == want == sergeev_minimum(n)
     g = dp_network(n, d)
@@ -46,8 +49,9 @@ def test_dp_reaches_sergeev_minimum_at_depth_log2_n(n, want):
 
 @pytest.mark.slow
 def test_dp_is_never_worse_than_ladner_fischer_and_never_below_the_bounds():
-    """Ladner and Fischer's P_0 is in the program's class, so the program never has more cells (168 at
-    64, the P_0 size 4n + 1 - F(11)); and no result beats Sergeev's minimum or Snir's bound."""
+    """Ladner and Fischer's P_0 is in the program's class, so the program never has more cells (P_0 has
+    168 at 64, the size 4n + 1 - F(11); the program 167); and no result beats Sergeev's minimum or Snir's
+    bound."""
     for n in (5, 12, 16, 24, 33, 64):
         d = (n - 1).bit_length()
         g = dp_network(n, d)
@@ -58,7 +62,8 @@ def test_dp_is_never_worse_than_ladner_fischer_and_never_below_the_bounds():
         for extra in (1, 2):
             h = dp_network(n, d + extra)
             assert depth(h) <= d + extra and len(h.cells) + depth(h) >= 2 * n - 2
-    assert len(dp_network(64, 6).cells) == 168 == 4 * 64 + 1 - 89
+    assert len(build("ladner-fischer-p0", 64).cells) == 168 == 4 * 64 + 1 - 89
+    assert len(dp_network(64, 6).cells) == 167
 
 
 @pytest.mark.parametrize("n, d, cells", [(16, 5, 25), (32, 7, 55), (64, 8, 118)])

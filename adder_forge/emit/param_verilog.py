@@ -28,7 +28,10 @@ prefix network, the block size) is fixed in the text. A block size is a number o
 it does not divide WIDTH the top block takes the remainder, as in the flat form.
 
 Prefix networks (column c is bit c, or bit c - 1 with the carry-in as column 0; see schemes/prefix.py) are
-built level by level in one vector per signal, ``G[k*NB + c]`` the group generate of column c after level k.
+built level by level, each level in a generate block with vectors of its own, ``level[k].G[c]`` the group
+generate of column c after level k, read by the next level through ``level[k-1].G`` (one vector for all levels
+made Icarus re-evaluate every reader on every bit change: 240 s against 1.5 s for Kogge-Stone at ten widths up
+to 64 bits, docs/param.md).
 A column without a cell at a level passes its value on (a wire, not a gate). Each network is two constant
 functions: ``driver(k, c)``, the column that column c combines with at level k (-1: no cell), and
 ``black(k, c)``, whether that cell's group propagate is still needed (its span does not reach column 0).

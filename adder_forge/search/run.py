@@ -174,7 +174,12 @@ def _score(objective: str, g: PrefixGraph) -> float:
 
 
 def dp_network(n: int, depth: int, deadline=None) -> PrefixGraph:
-    s = Solver(depth, deadline)
+    """The program's network: the pairs-only class first, the full class only where that one is above
+    Snir's bound (no network of depth <= d has fewer than 2n - 2 - d cells) and above Sergeev's minimum."""
+    s = Solver(depth, deadline, rich=False)
+    floor = max(2 * n - 2 - depth, sergeev_minimum(n) or 0 if depth == levels_of(n) else 0)
+    if s.cost(n) > floor:
+        s = Solver(depth, deadline)
     return from_rows(n, rows_from_ops(n, s.ops(n)), f"dp-depth{depth}")
 
 
