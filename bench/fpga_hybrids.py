@@ -143,17 +143,23 @@ def run_seeds(family: str, width: int) -> int:
 
 
 def parse_blocks(item: str) -> list[tuple[str, str, dict, str]]:
-    """'LABEL[@kept]:SIZES' with SIZES either uniform sizes '12,14,16' or lists '[8,16,24];[12,20]': one
-    variant a size, the label's scheme and keys with ``block`` set."""
+    """'LABEL[+prefix=NETWORK][@kept]:SIZES' with SIZES either uniform sizes '12,14,16' or lists
+    '[8,16,24];[12,20]': one variant a size, the label's scheme and keys with ``block`` set."""
     head, _, sizes = item.partition(":")
     label, _, structure = head.partition("@")
+    label, *extra = label.split("+prefix=")  # chain-prefix+prefix=kogge-stone: another network over the blocks
     base = next((v for v in variants("ice40", 8) if v[0] == label and v[1].startswith("chain")), None)
     if base is None or not sizes or structure not in ("", "flat", "kept"):
         raise SystemExit(f"blocks: cannot read {item!r} (LABEL[@kept]:SIZES, LABEL one of chain-prefix, "
                          "chain-select, chain-select/chain)")
     blocks = [json.loads(x) for x in sizes.split(";")] if sizes.startswith("[") else [int(x) for x in sizes.split(",")]
     keys = {k: v for k, v in base[2].items() if k != "target"}
-    return [(label, base[1], {**keys, "block": b}, structure or "flat") for b in blocks]
+    if extra:
+        if label != "chain-prefix":
+            raise SystemExit(f"blocks: +prefix= applies to chain-prefix only, not {label}")
+        keys["prefix"] = extra[0]
+    name = f"{label}/{keys['prefix']}" if extra else label
+    return [(name, base[1], {**keys, "block": b}, structure or "flat") for b in blocks]
 
 
 def run_blocks(family: str, width: int, items: list[str]) -> int:
