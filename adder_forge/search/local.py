@@ -20,7 +20,9 @@ The work is counted in rounds of ``MOVES`` moves, so a run is a pure function of
 rounds): ``--seconds`` only decides how many rounds fit, and the file records that number.
 
 Fanout is the report's ``prefix_fanout`` (Harris 2003): per level, the cells a value drives laterally plus
-one for its own column; Kogge-Stone has 2 and Knowles [f, 1, ..., 1] has f + 1 in it.
+one for its own column; Kogge-Stone has 2 and Knowles [f, 1, ..., 1] has f + 1 in it. Loads are
+``prefix_figures.value_loads``: the cell inputs one value drives over the whole network (a circuit's
+fanout); Kogge-Stone has log2 n of them.
 """
 
 from __future__ import annotations

@@ -2,9 +2,10 @@
 
 The search (docs/search.md):
 1. Starts: every classic network (``prefix_networks.NETWORKS``, Knowles fanout lists, Harris taxonomy
-   points) that meets the bounds, and the dynamic program's fewest-cell network at each depth up to the
-   level bound (``prefix_dp``: exact within its class of serial, pairing and relative moves; at depth
-   d > log2 n it meets Snir's bound where zero-deficiency networks exist).
+   points) and the read-twice network (``read_twice``: 2 loads per value) that meet the bounds, and the
+   dynamic program's fewest-cell network at each depth up to the level bound (``prefix_dp``: exact within
+   its class of serial, group, relative and merge moves; Sergeev 2013's minima at depth log2 n up to 128
+   inputs; at depth d > log2 n it meets Snir's bound where zero-deficiency networks exist).
 2. The best start under the objective is polished by simulated annealing (``local``) under the bounds,
    in rounds; ``--seconds`` decides how many rounds fit, the file records the number, and
    ``--rounds`` reproduces the run exactly (the work is a pure function of the request and the seed).
