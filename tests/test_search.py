@@ -35,11 +35,11 @@ def assert_prefix(g, n):
 
 
 # -- the dynamic program ---------------------------------------------------------------------------------------
-@pytest.mark.parametrize("n, want", [(16, 31), (32, 74), (64, 167), (128, 364)])
+@pytest.mark.parametrize("n, want", [(16, 31), (32, 74), (64, 167), (128, 364), (256, 773)])
 def test_dp_reaches_sergeev_minimum_at_depth_log2_n(n, want):
     """At depth log2 n the program's network has exactly the minimum size of Sergeev 2013 (I. S. Sergeev,
     "On the complexity of parallel prefix circuits", ECCC TR13-041): 3.5 * 2^k - (8.5 + 3.5 (k mod 2))
-    * 2^floor(k/2) + k + 5 cells on 2^k inputs, 31, 74, 167 and 364 at k = 4 .. 7 (Ladner and Fischer's
+    * 2^floor(k/2) + k + 5 cells on 2^k inputs, 31, 74, 167, 364 and 773 at k = 4 .. 8 (Ladner and Fischer's
     P_0 has 168 and 369 at 64 and 128)."""
     d = (n - 1).bit_length()
     assert Solver(d).cost(n) == want == sergeev_minimum(n)

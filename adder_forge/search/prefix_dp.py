@@ -26,14 +26,19 @@ Moves, each counted in cells:
   group's other columns first take the lower top's total (one cell each). The block of merged tops is
   then due one level later than a pairing's would be (its columns need not complete the lower tops), and
   a lower top skips every carry cell a relative move above it would give it. That is what lets a higher
-  column use a group's own total G[top:s] before the group gets its carry.
+  column use a group's own total G[top:s] before the group gets its carry. The lowest pair of a block
+  that is solved relative to a carry still to come may merge as well (its late fill then comes from that
+  carry). When two groups of four that are themselves merged pairs merge again, the upper group's column
+  that read its own merged-away top (its pair's lower top) does not take the lower total itself: it reads
+  that top again once the top has the total, one cell fewer. These two made the last cell at 256 inputs
+  (found by an exact re-solve, with CP-SAT, of columns 120 .. 127 of the 774-cell network).
 
 States are (block size, carry depth, deadline for the block's columns, deadline for its top column) and,
 inside a group move, (group size, top group size, carry steps still to come); the construction comes back
 as rows. ``from_rows`` skips any pair that adds nothing, so the built network has at most the cells the
 program counted (the tests check it has exactly those). It is exact within its class; at depth log2 n
-it reaches Sergeev 2013's exact minima at n = 16, 32, 64 and 128 (31, 74, 167, 364) and is one cell above
-it at 256 (774 against 773); below Ladner and Fischer's P_0 from 64 on (docs/search.md).
+it reaches Sergeev 2013's exact minima at n = 16, 32, 64, 128 and 256 (31, 74, 167, 364, 773);
+Ladner and Fischer's P_0 from 64 on (docs/search.md).
 """
 
 from __future__ import annotations
@@ -56,6 +61,8 @@ class _Groups:
         self.fill_from: dict[int, int] = {}  # member -> the complete column it joins at the last level
         self.order: list[int] = []  # members and merged-away tops, in the order they were made
         self.dropped: set[int] = set()  # merged-away tops: no carry cell, a late fill instead
+        self.member_read: dict[int, int] = {}  # member -> the merged-away top its last merge cell read
+        self.member_cell: dict[int, int] = {}  # member -> where that cell is in the output
 
 
 class Solver:
@@ -63,7 +70,7 @@ class Solver:
 
     GROUP_MAX = 4  # widest group tried: 8 gave nothing more at 16 .. 256 inputs (docs/search.md)
     MERGED_MAX = 64  # widest merged group
-    PEND_MAX = 3
+    PEND_MAX = 4
 
     def __init__(self, depth: int, deadline=None, rich: bool = True):
         """``rich=False``: pairs only, no merges (the class of Ladner and Fischer's P_0, Brent-Kung and
@@ -92,7 +99,7 @@ class Solver:
         if _min_depth(m) > T or _min_depth(m - 1) > D:
             return BAD, None
         best = (BAD, None)
-        fl_low = None if fl is None else (fl[0], fl[0], fl[2])
+        fl_low = None if fl is None else (fl[0], fl[0], fl[2], fl[3])
         for a in range(1, m):
             for t1 in range(_min_depth(a), min(D, T - 1) + 1):
                 low = self.bottom(a, D, t1, fl_low)[0]
@@ -120,7 +127,7 @@ class Solver:
         if m == 1:
             return 1, ("leaf",)
         best = (BAD, None)
-        fl_low = None if fl is None else (fl[0], fl[0], fl[2])
+        fl_low = None if fl is None else (fl[0], fl[0], fl[2], fl[3])
         for a in range(1, m):
             for c1 in range(A + 1, D + 1):
                 low = self.upper(a, A, D, c1, fl_low)[0]
@@ -130,7 +137,7 @@ class Solver:
                 if c < best[0]:
                     best = (c, ("serial", a, c1))
         if A <= D - 1 and A <= C - 1:
-            fl_rel = None if fl is None else (fl[0], fl[1], min(fl[2] + 1, self.PEND_MAX))
+            fl_rel = None if fl is None else (fl[0], fl[1], min(fl[2] + 1, self.PEND_MAX), fl[3])
             c = self.bottom(m, D - 1, C - 1, fl_rel)[0] + m
             if c < best[0]:
                 best = (c, ("relative", C - 1))
@@ -187,7 +194,7 @@ class Solver:
                 cost += self.bottom(size, a if early else D - 1, a)[0] + size - 1
             if cost >= limit:
                 return BAD
-        fl = (g, len(groups[-1]), 0) if early else None
+        fl = (g, len(groups[-1]), 0, 0) if early else None
         if A is None:
             return cost + self.bottom(k, D - 1 - a, top - a, fl)[0]
         if len(groups[0]) > 1 and A + 1 > D:
@@ -207,7 +214,7 @@ class Solver:
         return groups
 
     def _merge_cost(self, m: int, off: int, fl, A, D: int, top: int) -> int:
-        s, sl, pend = fl
+        s, sl, pend, merged = fl
         if D < 1 or top < 1 or (off and m < 3) or 2 * s > self.MERGED_MAX:
             return BAD
         groups = self._merge_shape(m, off)
@@ -215,15 +222,15 @@ class Solver:
         for grp in groups:
             if len(grp) == 1:
                 continue
-            if A is None and grp[0] == 0:  # the lowest column is complete: an ordinary pair
+            if A is None and grp[0] == 0 and pend == 0:  # the lowest column is complete: an ordinary pair
                 cost += 1
                 continue
             hi_size = sl if grp[1] == m - 1 else s
             # the pair, one cell for each other column of the upper group, the late fill of the lower
             # top, less the carry cells it no longer gets
-            cost += 1 + (hi_size - 1) + 1 - pend
+            cost += 1 + (hi_size - 1) + 1 - pend - (1 if merged and hi_size == s == 4 else 0)
         last_paired = len(groups[-1]) == 2
-        sub = (2 * s, s + sl if last_paired else sl, pend)
+        sub = (2 * s, s + sl if last_paired else sl, pend, 1)
         k = len(groups)
         if A is None:
             return cost + self.bottom(k, D - 1, top - 1, sub)[0]
@@ -244,22 +251,22 @@ class Solver:
             self._emit_bottom(list(range(n)), self.depth, self.depth, None, None, out)
         finally:
             sys.setrecursionlimit(limit)
-        return out
+        return [op for op in out if op is not None]
 
-    def _emit_bottom(self, cols, D, T, fl, ctx, out):
+    def _emit_bottom(self, cols, D, T, fl, ctx, out, below=None):
         m = len(cols)
         _, move = self.bottom(m, D, T, fl)
         if move[0] == "leaf":
             return
         if move[0] == "serial":
             _, a, t1 = move
-            fl_low = None if fl is None else (fl[0], fl[0], fl[2])
-            self._emit_bottom(cols[:a], D, t1, fl_low, ctx, out)
+            fl_low = None if fl is None else (fl[0], fl[0], fl[2], fl[3])
+            self._emit_bottom(cols[:a], D, t1, fl_low, ctx, out, below)
             self._emit_upper(cols[a:], cols[a - 1], t1, D, T, fl, ctx, out)
         elif move[0] == "group":
             self._emit_group(cols, move[1:], None, None, D, T, out)
         else:
-            self._emit_merge(cols, move[1], fl, ctx, None, None, D, T, out)
+            self._emit_merge(cols, move[1], fl, ctx, None, None, D, T, out, below)
 
     def _emit_upper(self, cols, carry, A, D, C, fl, ctx, out):
         m = len(cols)
@@ -268,12 +275,12 @@ class Solver:
             out.append((cols[0], carry))
         elif move[0] == "serial":
             _, a, c1 = move
-            fl_low = None if fl is None else (fl[0], fl[0], fl[2])
+            fl_low = None if fl is None else (fl[0], fl[0], fl[2], fl[3])
             self._emit_upper(cols[:a], carry, A, D, c1, fl_low, ctx, out)
             self._emit_upper(cols[a:], cols[a - 1], c1, D, C, fl, ctx, out)
         elif move[0] == "relative":
-            fl_rel = None if fl is None else (fl[0], fl[1], min(fl[2] + 1, self.PEND_MAX))
-            self._emit_bottom(cols, D - 1, move[1], fl_rel, ctx, out)
+            fl_rel = None if fl is None else (fl[0], fl[1], min(fl[2] + 1, self.PEND_MAX), fl[3])
+            self._emit_bottom(cols, D - 1, move[1], fl_rel, ctx, out, carry)
             for c in cols:
                 if ctx is None or c not in ctx.dropped:
                     out.append((c, carry))
@@ -295,7 +302,7 @@ class Solver:
                     ctx.fill_from[c] = carry if i == 0 else groups[i - 1][-1]
                     ctx.order.append(c)
         subcols = [grp[-1] for grp in groups]
-        fl = (g, len(groups[-1]), 0) if early else None
+        fl = (g, len(groups[-1]), 0, 0) if early else None
         if carry is None:
             self._emit_bottom(subcols, D - 1 - a, top - a, fl, ctx, out)
         else:
@@ -303,28 +310,43 @@ class Solver:
         for c in ctx.order:  # then every other column from the complete column below its group
             out.append((c, ctx.fill_from[c]))
 
-    def _emit_merge(self, cols, off, fl, ctx, carry, A, D, top, out):
+    def _emit_merge(self, cols, off, fl, ctx, carry, A, D, top, out, below_block=None):
         groups = self._merge_shape(len(cols), off)
+        s, sl, pend, merged = fl
         subcols = []
         for grp in groups:
             if len(grp) == 2:
                 lo, hi = cols[grp[0]], cols[grp[1]]
-                if carry is None and grp[0] == 0:
+                if carry is None and grp[0] == 0 and pend == 0:
                     out.append((hi, lo))  # an ordinary pair: the lowest column is complete
                 else:
-                    below = carry if grp[0] == 0 else cols[grp[0] - 1]
-                    for c in ctx.members.get(hi, []):  # the upper group's columns reach down to lo's group
-                        out.append((c, lo))
+                    lo_group = ctx.members.get(lo, [])
+                    # the complete column under lo's group; for the lowest pair of a block solved relative
+                    # to a carry still to come, that carry
+                    below = cols[grp[0] - 1] if grp[0] else (carry if carry is not None else below_block)
+                    hi_members = ctx.members.get(hi, [])
+                    hi_size = sl if grp[1] == len(cols) - 1 else s
+                    late = set(hi_members) if merged and hi_size == s == 4 else set()
+                    for c in hi_members:  # the upper group's columns reach down to lo's group
+                        d = ctx.member_read.get(c)
+                        if d in late:  # c read a merged-away top of its own group: read it again, later
+                            out[ctx.member_cell[c]] = None
+                            ctx.member_cell[c] = len(out)
+                            out.append((c, d))
+                        else:
+                            ctx.member_cell[c] = len(out)
+                            ctx.member_read[c] = lo
+                            out.append((c, lo))
                         ctx.fill_from[c] = below
                     out.append((hi, lo))
                     ctx.dropped.add(lo)
                     ctx.fill_from[lo] = below
                     ctx.order.append(lo)
-                    ctx.members[hi] = ctx.members.get(lo, []) + [lo] + ctx.members.get(hi, [])
+                    ctx.members[hi] = lo_group + [lo] + hi_members
             subcols.append(cols[grp[-1]])
-        sub = (2 * fl[0], fl[0] + fl[1] if len(groups[-1]) == 2 else fl[1], fl[2])
+        sub = (2 * s, s + sl if len(groups[-1]) == 2 else sl, pend, 1)
         if carry is None:
-            self._emit_bottom(subcols, D - 1, top - 1, sub, ctx, out)
+            self._emit_bottom(subcols, D - 1, top - 1, sub, ctx, out, below_block)
         else:
             self._emit_upper(subcols, carry, max(A - 1, 0), D - 1, top - 1, sub, ctx, out)
 
