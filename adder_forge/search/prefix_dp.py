@@ -34,11 +34,11 @@ Moves, each counted in cells:
   (found by an exact re-solve, with CP-SAT, of columns 120 .. 127 of the 774-cell network).
 
 States are (block size, carry depth, deadline for the block's columns, deadline for its top column) and,
-inside a group move, (group size, top group size, carry steps still to come); the construction comes back
-as rows. ``from_rows`` skips any pair that adds nothing, so the built network has at most the cells the
-program counted (the tests check it has exactly those). It is exact within its class; at depth log2 n
+inside a group move, (group size, top group size, carry steps still to come, whether the groups are merged
+ones); the construction comes back as rows. ``from_rows`` skips any pair that adds nothing, so the built
+network has at most the cells the program counted (the tests check it has exactly those). It is exact within its class; at depth log2 n
 it reaches Sergeev 2013's exact minima at n = 16, 32, 64, 128 and 256 (31, 74, 167, 364, 773);
-Ladner and Fischer's P_0 from 64 on (docs/search.md).
+below Ladner and Fischer's P_0 from 64 on (docs/search.md).
 """
 
 from __future__ import annotations
