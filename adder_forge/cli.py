@@ -73,6 +73,8 @@ def _parser() -> argparse.ArgumentParser:
     s.add_argument("--max-levels", type=int, required=True, metavar="L", help="most levels of prefix cells")
     s.add_argument("--max-fanout", type=int, metavar="F", help="most fanout (Harris 2003's measure, docs/prefix.md)")
     s.add_argument("--max-tracks", type=int, metavar="T", help="most wire tracks (Harris 2003's measure)")
+    s.add_argument("--max-loads", type=int, metavar="R",
+                   help="most cell inputs one value drives anywhere in the network (circuit fanout, docs/search.md)")
     s.add_argument("--objective", default="cells", metavar="NAME", help="cells, area-delay or lut6 (default cells)")
     s.add_argument("--seconds", type=float, default=60.0, metavar="S",
                    help="time for the annealing rounds (default 60); the file records how many rounds ran")
@@ -343,7 +345,7 @@ def cmd_search(args) -> int:
     if not out.parent.is_dir():
         raise UsageError(f"--out {args.out}: no folder {out.parent}", "search", "--out")
     r = Request(args.width, args.max_levels, args.max_fanout, args.max_tracks, args.objective, args.seconds,
-                args.seed, args.rounds, args.carry_in)
+                args.seed, args.rounds, args.carry_in, max_loads=args.max_loads)
     check_request(r)  # before any work
     found = search(r, progress=_progress())
     text = found.file_text()

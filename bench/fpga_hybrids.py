@@ -59,6 +59,14 @@ class Wrong(Exception):
     pass
 
 
+def tool_error(exc: Exception) -> str:
+    """What a crashed tool said: its first line, and the trap of a WebAssembly fault (the lines in between are
+    a backtrace of unnamed functions)."""
+    lines = [x.strip() for x in str(exc).splitlines() if x.strip()]
+    trap = [x for x in lines if "memory fault" in x or "wasm trap" in x or x.startswith("ERROR")]
+    return "; ".join([lines[0].split(" (")[0], *trap])[:300] if lines else type(exc).__name__
+
+
 def measure(family: str, width: int, label: str, scheme: str, keys: dict, structure: str, seed: int = 1,
             device: str | None = None) -> dict:
     name = f"f_{scheme.replace('-', '_')}_{width}_{structure}"
@@ -109,7 +117,7 @@ def run_family(family: str, widths) -> int:
                 return 1
             except Exception as exc:  # a tool that crashes or a design that does not fit: record, go on
                 row = {"family": family, "width": w, "label": label, "scheme": scheme, "keys": keys,
-                       "structure": structure, "error": str(exc).splitlines()[0][:200]}
+                       "structure": structure, "error": tool_error(exc)}
             rows.append(row)
             print(json.dumps(row), flush=True)
             out_path.write_text(json.dumps(rows, indent=1) + "\n", encoding="utf-8")
@@ -135,34 +143,42 @@ def run_seeds(family: str, width: int) -> int:
 
 
 def parse_blocks(item: str) -> list[tuple[str, str, dict, str]]:
-    """'LABEL[@kept]:SIZES' with SIZES either uniform sizes '12,14,16' or lists '[8,16,24];[12,20]': one
-    variant a size, the label's scheme and keys with ``block`` set."""
+    """'LABEL[+prefix=NETWORK][@kept]:SIZES' with SIZES either uniform sizes '12,14,16' or lists
+    '[8,16,24];[12,20]': one variant a size, the label's scheme and keys with ``block`` set."""
     head, _, sizes = item.partition(":")
     label, _, structure = head.partition("@")
+    label, *extra = label.split("+prefix=")  # chain-prefix+prefix=kogge-stone: another network over the blocks
     base = next((v for v in variants("ice40", 8) if v[0] == label and v[1].startswith("chain")), None)
     if base is None or not sizes or structure not in ("", "flat", "kept"):
         raise SystemExit(f"blocks: cannot read {item!r} (LABEL[@kept]:SIZES, LABEL one of chain-prefix, "
                          "chain-select, chain-select/chain)")
     blocks = [json.loads(x) for x in sizes.split(";")] if sizes.startswith("[") else [int(x) for x in sizes.split(",")]
     keys = {k: v for k, v in base[2].items() if k != "target"}
-    return [(label, base[1], {**keys, "block": b}, structure or "flat") for b in blocks]
+    if extra:
+        if label != "chain-prefix":
+            raise SystemExit(f"blocks: +prefix= applies to chain-prefix only, not {label}")
+        keys["prefix"] = extra[0]
+    name = f"{label}/{keys['prefix']}" if extra else label
+    return [(name, base[1], {**keys, "block": b}, structure or "flat") for b in blocks]
 
 
 def run_blocks(family: str, width: int, items: list[str]) -> int:
-    """Place the given block sizes (a sweep); rows are added to bench/results/fpga_blocks_FAMILY_WIDTH.json."""
+    """Place the given block sizes (a sweep); rows are added to bench/results/fpga_blocks_FAMILY_WIDTH.json
+    (FPGA_SEED=k: nextpnr seed k, written to fpga_blocks_FAMILY_WIDTH_seedk.json)."""
     RESULTS.mkdir(parents=True, exist_ok=True)
-    out_path = RESULTS / f"fpga_blocks_{family}_{width}.json"
+    seed = int(os.environ.get("FPGA_SEED", "1"))
+    out_path = RESULTS / f"fpga_blocks_{family}_{width}{f'_seed{seed}' if seed != 1 else ''}.json"
     rows = json.loads(out_path.read_text(encoding="utf-8")) if out_path.exists() else []
     for item in items:
         for label, scheme, keys, structure in parse_blocks(item):
             try:
-                row = measure(family, width, label, scheme, keys, structure)
+                row = measure(family, width, label, scheme, keys, structure, seed=seed)
             except Wrong as exc:
                 print(f"WRONG: {exc}", flush=True)
                 return 1
             except Exception as exc:
                 row = {"family": family, "width": width, "label": label, "scheme": scheme, "keys": keys,
-                       "structure": structure, "block_sizes": str(keys["block"]), "error": str(exc).splitlines()[0][:200]}
+                       "structure": structure, "block_sizes": str(keys["block"]), "error": tool_error(exc)}
             rows.append(row)
             print(json.dumps(row), flush=True)
             out_path.write_text(json.dumps(rows, indent=1) + "\n", encoding="utf-8")

@@ -21,11 +21,13 @@ def load(family: str) -> list[dict]:
     latest = {}
     for r in rows:
         latest[(r["width"], r["label"], r["structure"])] = r
-    return sorted(latest.values(), key=lambda r: r["width"])
+    order = ["+", "kogge-stone", "sklansky", "chain-prefix", "chain-select", "chain-select/chain"]
+    return sorted(latest.values(), key=lambda r: (r["width"], order.index(r["label"]) if r["label"] in order
+                                                   else len(order), r["structure"] == "kept"))
 
 
 def _name(r: dict) -> str:
-    return f"{r['label']} ({r['structure']})"
+    return f"{r['label']} ({r['structure']})" + (" ¹" if "from_table" in r else "")
 
 
 def table(family: str, rows: list[dict]) -> list[str]:
@@ -38,7 +40,7 @@ def table(family: str, rows: list[dict]) -> list[str]:
         plus = next((r["fmax_mhz"] for r in at if r["label"] == "+" and "fmax_mhz" in r), None)
         for r in at:
             if "error" in r:
-                out.append(f"| {w} | {_name(r)} | | failed: {r['error'][:80]} | | | | |")
+                out.append(f"| {w} | {_name(r)} | | failed: {r['error'][:200]} | | | | |")
                 continue
             ratio = f"{r['fmax_mhz'] / plus:.2f}" if plus else "-"
             blocks = r.get("block_sizes") or ""
@@ -46,6 +48,9 @@ def table(family: str, rows: list[dict]) -> list[str]:
                 blocks = blocks[:25] + "...]"
             out.append(f"| {w} | {_name(r)} | {blocks} | {r['fmax_mhz']:.2f} | {ratio} | {r['lut4']} | "
                        f"{r['carry_cells']} {r['carry_cell']} | {r['seconds']:.0f} |")
+    if any("from_table" in r for r in rows):
+        out += ["", "¹ from the first run (commit 0fe9fa5), whose JSON was not kept: its table's figures, and "
+                    "`block: auto` sizes of that time (docs/fpga.md)."]
     return out + [""]
 
 
@@ -95,6 +100,8 @@ def sweeps() -> list[str]:
     """The block-size sweeps (``fpga_hybrids.py blocks``), fastest first, with nextpnr's critical path."""
     out = []
     for p in sorted(RESULTS.glob("fpga_blocks_*.json")):
+        if "_seed" in p.name:  # other seeds of swept designs: in the seeds tables
+            continue
         rows = json.loads(p.read_text(encoding="utf-8"))
         ok = sorted((r for r in rows if "fmax_mhz" in r), key=lambda r: -r["fmax_mhz"])
         if not ok:
@@ -116,14 +123,23 @@ def sweeps() -> list[str]:
 def seeds() -> list[str]:
     """The spread over seeds 1-3 (``fpga_hybrids.py seeds``): min, max and max/min - 1 of each design."""
     out = []
-    for p in sorted(RESULTS.glob("fpga_seeds_*.json")):
-        rows = json.loads(p.read_text(encoding="utf-8"))
+    groups = [("", json.loads(p.read_text(encoding="utf-8"))) for p in sorted(RESULTS.glob("fpga_seeds_*.json"))]
+    bases = sorted({p.name.rsplit("_seed", 1)[0] for p in RESULTS.glob("fpga_blocks_*_seed*.json")})
+    for base in bases:  # swept designs placed with other seeds too: with their seed-1 rows
+        again = [r for p in sorted(RESULTS.glob(f"{base}_seed*.json"))
+                 for r in json.loads(p.read_text(encoding="utf-8")) if "fmax_mhz" in r]
+        first = json.loads((RESULTS / f"{base}.json").read_text(encoding="utf-8"))
+        keys = {(r["label"], r["structure"], r["block_sizes"]) for r in again}
+        groups.append((", swept blocks", [r for r in first if "fmax_mhz" in r and
+                                          (r["label"], r["structure"], r["block_sizes"]) in keys] + again))
+    for title, rows in groups:
         if not rows:
             continue
-        out += [f"### Seeds: {rows[0]['device']}, {rows[0]['width']} bits", "",
+        out += [f"### Seeds: {rows[0]['device']}, {rows[0]['width']} bits{title}", "",
                 "| adder | blocks | Fmax by seed, MHz | min | max | spread |", "|---|---|---|---|---|---|"]
-        for key in dict.fromkeys((r["label"], r["structure"]) for r in rows):
-            at = [r for r in rows if (r["label"], r["structure"]) == key]
+        for key in dict.fromkeys((r["label"], r["structure"], r.get("block_sizes")) for r in rows):
+            at = sorted((r for r in rows if (r["label"], r["structure"], r.get("block_sizes")) == key),
+                        key=lambda r: r["seed"])
             f = [r["fmax_mhz"] for r in at]
             by = ", ".join(f"{r['seed']}: {r['fmax_mhz']:.2f}" for r in at)
             out.append(f"| {_name(at[0])} | {at[0].get('block_sizes') or ''} | {by} | {min(f):.2f} | {max(f):.2f} | "

@@ -687,3 +687,18 @@ def test_an_unchanged_plot_is_not_drawn_again_and_a_changed_one_is(tmp_path, mon
     # what the cache gave is what drawing it now gives
     fresh = report.report_files(wider.outcome)
     assert all(fresh[f] == (tmp_path / "o2" / f).read_bytes() for f in fresh if f.endswith(".png"))
+
+
+def test_a_delay_axis_spanning_more_than_8_times_is_drawn_on_a_log_scale(tmp_path):
+    from adder_forge.explore.report import pareto_plot_data
+
+    sw = load_sweep(_tiny(tmp_path, TINY.replace("[8, 16]", "[8, 128]")))
+    out = run(sw, tmp_path / "cache", jobs=1)
+    table = figure_table(out)
+    for d in pareto_plot_data(out):
+        e = d["entry"]
+        ys = [table[p.spec.name][e["delay"]] for p in sw.points if p.spec.width == e["width"]]
+        ys = [y for y in ys if y is not None]
+        assert d["logx"] == (max(ys) > 8 * min(ys))  # 128-bit ripple: 256 unit delays beside a tree's 16
+    assert {(d["entry"]["width"], d["logx"]) for d in pareto_plot_data(out)
+            if d["entry"]["delay"] == "unit_gate_delay"} == {(8, False), (128, True)}

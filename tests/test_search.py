@@ -14,12 +14,13 @@ import random
 import pytest
 
 from adder_forge.analysis.prefix_eval import check_graph as prefix_check, longest_chain as depth, stimulus
-from adder_forge.analysis.prefix_figures import fanout, prefix_figures, sergeev_minimum, tracks
+from adder_forge.analysis.prefix_figures import fanout, prefix_figures, sergeev_minimum, tracks, value_loads
 from adder_forge.cli import main
 from adder_forge.schemes import elaborate, network_file
 from adder_forge.schemes.prefix_networks import build, from_rows, validate
 from adder_forge.search.local import Bounds, anneal, evaluate, graph_of, level_tracks, repaired
 from adder_forge.search.prefix_dp import Solver, rows_from_ops
+from adder_forge.search.read_twice import read_twice_rows
 from adder_forge.search.run import Request, classic_starts, dp_network, search
 from adder_forge.spec.loader import load_spec
 from adder_forge.checks.builtin import check
@@ -34,9 +35,12 @@ def assert_prefix(g, n):
 
 
 # -- the dynamic program ---------------------------------------------------------------------------------------
-@pytest.mark.parametrize("n, want", [(16, 31), (32, 74)])
+@pytest.mark.parametrize("n, want", [(16, 31), (32, 74), (64, 167), (128, 364)])
 def test_dp_reaches_sergeev_minimum_at_depth_log2_n(n, want):
-    """At depth log2 n the program's network has exactly Sergeev 2013's minimum at 16 and 32 inputs."""
+    """At depth log2 n the program's network has exactly the minimum size of Sergeev 2013 (I. S. Sergeev,
+    "On the complexity of parallel prefix circuits", ECCC TR13-041): 3.5 * 2^k - (8.5 + 3.5 (k mod 2))
+    * 2^floor(k/2) + k + 5 cells on 2^k inputs, 31, 74, 167 and 364 at k = 4 .. 7 (Ladner and Fischer's
+    P_0 has 168 and 369 at 64 and 128)."""
     d = (n - 1).bit_length()
     assert Solver(d).cost(n) == want == sergeev_minimum(n)
     g = dp_network(n, d)
@@ -46,8 +50,9 @@ def test_dp_reaches_sergeev_minimum_at_depth_log2_n(n, want):
 
 @pytest.mark.slow
 def test_dp_is_never_worse_than_ladner_fischer_and_never_below_the_bounds():
-    """Ladner and Fischer's P_0 is in the program's class, so the program never has more cells (168 at
-    64, the P_0 size 4n + 1 - F(11)); and no result beats Sergeev's minimum or Snir's bound."""
+    """Ladner and Fischer's P_0 is in the program's class, so the program never has more cells (P_0 has
+    168 at 64, the size 4n + 1 - F(11); the program 167); and no result beats Sergeev's minimum or Snir's
+    bound."""
     for n in (5, 12, 16, 24, 33, 64):
         d = (n - 1).bit_length()
         g = dp_network(n, d)
@@ -58,7 +63,8 @@ def test_dp_is_never_worse_than_ladner_fischer_and_never_below_the_bounds():
         for extra in (1, 2):
             h = dp_network(n, d + extra)
             assert depth(h) <= d + extra and len(h.cells) + depth(h) >= 2 * n - 2
-    assert len(dp_network(64, 6).cells) == 168 == 4 * 64 + 1 - 89
+    assert len(build("ladner-fischer-p0", 64).cells) == 168 == 4 * 64 + 1 - 89
+    assert len(dp_network(64, 6).cells) == 167
 
 
 @pytest.mark.parametrize("n, d, cells", [(16, 5, 25), (32, 7, 55), (64, 8, 118)])
@@ -80,6 +86,37 @@ def test_the_built_network_has_the_cells_the_program_counted():
             assert len(g.cells) == s.cost(n), (n, d)  # no pair of the construction is wasted
 
 
+def test_value_loads_count_every_read_of_a_value():
+    """Kogge and Stone 1973's network on 2^L inputs: column 0's input is read by columns 1, 2, 4, ...,
+    2^(L-1), one per level, so L loads anywhere in the network, against fanout 2 per level (Harris 2003)."""
+    for L in (3, 5, 6):
+        g = build("kogge-stone", 1 << L)
+        assert value_loads(g) == L and fanout(g) == 2
+    g = from_rows(4, [[(1, 0), (3, 2)], [(2, 1), (3, 1)]], "t")  # G[1:0] read by 2 and 3, and nothing else
+    assert value_loads(g) == 2
+
+
+@pytest.mark.parametrize("n, kogge_stone", [(16, 49), (32, 129), (64, 321), (128, 769)])
+def test_read_twice_network_has_two_loads_at_least_depth_and_fewer_cells_than_kogge_stone(n, kogge_stone):
+    """At depth log2 n with no value driving more than two cell inputs: fewer cells than Kogge-Stone's
+    (n log2 n - n + 1), and not below Sergeev 2024's bound 0.75 (log2 n - 1) n for fanout-2 circuits of
+    that depth (I. S. Sergeev, Diskretn. Anal. Issled. Oper. 31(4), 2024)."""
+    L = (n - 1).bit_length()
+    g = from_rows(n, read_twice_rows(n), "read-twice")
+    validate(g)
+    assert_prefix(g, n)
+    assert value_loads(g) == 2 and depth(g) == L
+    assert len(build("kogge-stone", n).cells) == kogge_stone == n * L - n + 1
+    assert 0.75 * (L - 1) * n <= len(g.cells) < kogge_stone
+
+
+def test_search_under_a_loads_bound_meets_it():
+    found = search(Request(24, 5, rounds=2, verify=False, max_loads=2))
+    assert value_loads(found.graph) <= 2 and depth(found.graph) <= 5
+    assert len(found.graph.cells) <= len(from_rows(24, read_twice_rows(24), "t").cells)
+    assert "--max-loads 2" in found.file_text() and "2 loads" in found.file_text()
+
+
 def test_fast_evaluation_counts_what_the_graph_has():
     """local.evaluate (one pass, used for every move) against the built graph's own figures."""
     rng = random.Random(11)
@@ -88,7 +125,7 @@ def test_fast_evaluation_counts_what_the_graph_has():
         n = rng.randint(2, 24)
         L = (n - 1).bit_length() + rng.randint(0, 2)
         grid = [[-1] + [rng.randrange(0, c) if rng.random() < 0.85 else -1 for c in range(1, n)] for _ in range(L)]
-        b = Bounds(L, rng.choice([None, 2, 3]), rng.choice([None, 1, 3]))
+        b = Bounds(L, rng.choice([None, 2, 3]), rng.choice([None, 1, 3]), rng.choice([None, 2, 3]))
         e = evaluate(grid, n, b)
         g = graph_of(grid, n, "t")
         if e is None:
@@ -177,6 +214,7 @@ def test_search_with_carry_in_and_bounds(tmp_path, capsys):
     (["--width", "0", "--max-levels", "3"], "--width must be 1 to 16384"),
     (["--width", "16", "--max-levels", "4", "--objective", "cell"], "unknown objective 'cell'"),
     (["--width", "16", "--max-levels", "4", "--max-fanout", "1"], "--max-fanout must be 2 or more"),
+    (["--width", "16", "--max-levels", "4", "--max-loads", "1"], "--max-loads must be 2 or more"),
     (["--width", "16", "--max-levels", "4", "--seconds", "0"], "--seconds must be more than 0"),
 ])
 def test_bad_search_options_are_one_line_exit_2(tmp_path, capsys, args, words):

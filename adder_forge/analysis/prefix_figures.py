@@ -52,6 +52,18 @@ def fanout(graph: PrefixGraph) -> int:
     return 1 + max((len(cols) for cols in lateral_loads(graph).values()), default=0)
 
 
+def value_loads(graph: PrefixGraph) -> int:
+    """The most cell inputs one value drives anywhere in the network (its column's next cell and every
+    lateral read, at any level; outputs not counted): fanout as a circuit has it, the measure under which
+    Sergeev 2024 bounds fanout-2 prefix circuits (as far as we know). Kogge-Stone on 2^L inputs has L
+    (column 0's input is read once per level); Harris's per-level ``fanout`` gives it 2."""
+    reads: dict[int, int] = defaultdict(int)
+    for c in graph.cells:
+        reads[c.hi] += 1
+        reads[c.lo] += 1
+    return max(reads.values(), default=0)
+
+
 def tracks(graph: PrefixGraph) -> int:
     by_level: dict[int, list[int]] = defaultdict(lambda: [0] * (graph.inputs + 1))
     for (r, level), cols in lateral_loads(graph).items():

@@ -102,10 +102,12 @@ def pareto_plot_data(out: Outcome) -> list[dict]:
             points.append({"x": y, "y": x, "ok": ok, "label": p.label + note + ("" if ok else " (check FAILED)"),
                            "colour": _colour(st["color"]), "marker": st["marker"], "size": st["markersize"]})
         areas = [x for _, x, _ in pts if x]
+        delays = [abs(y) for _, _, y in pts if y]
         made.append({"kind": "pareto", "stem": f"pareto_w{w}_{delay}", "entry": entry, "points": points,
                      "front": sorted([y, x] for p, x, y in pts if p.spec.name in front),
                      "xlabel": _axis_label(delay), "ylabel": _axis_label(area),
                      "log": bool(areas and max(areas) > 8 * min(areas)),  # a flat lookahead beside a ripple
+                     "logx": bool(delays and max(delays) > 8 * min(delays)),  # a 128-bit ripple beside a tree
                      "invert": all_figures()[delay].better == "higher",  # faster to the left, as for any delay
                      "title": f"{out.sweep.name}, {w} bits: {area} against {delay}; lower left is better"})
     return made
@@ -164,6 +166,8 @@ def draw_pareto(d: dict) -> dict[str, str | bytes]:
     ax.set_ylabel(d["ylabel"])
     if d["log"]:
         _log_axis(ax)
+    if d["logx"]:
+        _log_axis(ax, "x")
     ax.margins(0.07)
     if d["invert"]:
         ax.invert_xaxis()
@@ -173,15 +177,17 @@ def draw_pareto(d: dict) -> dict[str, str | bytes]:
     return _save(plt, fig)
 
 
-def _log_axis(ax) -> None:
-    """Area on a log scale (a flat lookahead is 20 times a ripple), labelled in plain numbers."""
+def _log_axis(ax, which: str = "y") -> None:
+    """A log scale (a flat lookahead is 20 times a ripple's area, a ripple 15 times a tree's delay at 128
+    bits), labelled in plain numbers."""
     from matplotlib.ticker import LogLocator, ScalarFormatter
 
-    ax.set_yscale("log")
-    ax.yaxis.set_major_locator(LogLocator(base=10, subs=(1.0, 2.0, 5.0)))
-    ax.yaxis.set_major_formatter(ScalarFormatter())
-    ax.yaxis.set_minor_formatter(ScalarFormatter())
-    ax.yaxis.set_minor_locator(LogLocator(base=10, subs=()))
+    (ax.set_yscale if which == "y" else ax.set_xscale)("log")
+    axis = ax.yaxis if which == "y" else ax.xaxis
+    axis.set_major_locator(LogLocator(base=10, subs=(1.0, 2.0, 5.0)))
+    axis.set_major_formatter(ScalarFormatter())
+    axis.set_minor_formatter(ScalarFormatter())
+    axis.set_minor_locator(LogLocator(base=10, subs=()))
 
 
 def draw_width(d: dict) -> dict[str, str | bytes]:

@@ -33,7 +33,6 @@ from .sweep import ESTIMATES, Point, Sweep
 from .task import CHECK, CHECK_RANDOM, CHECK_SEED, compute
 
 
-
 @dataclass(frozen=True)
 class Task:
     spec: Spec

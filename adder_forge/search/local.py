@@ -20,7 +20,9 @@ The work is counted in rounds of ``MOVES`` moves, so a run is a pure function of
 rounds): ``--seconds`` only decides how many rounds fit, and the file records that number.
 
 Fanout is the report's ``prefix_fanout`` (Harris 2003): per level, the cells a value drives laterally plus
-one for its own column; Kogge-Stone has 2 and Knowles [f, 1, ..., 1] has f + 1 in it.
+one for its own column; Kogge-Stone has 2 and Knowles [f, 1, ..., 1] has f + 1 in it. Loads are
+``prefix_figures.value_loads``: the cell inputs one value drives over the whole network (a circuit's
+fanout); Kogge-Stone has log2 n of them.
 """
 
 from __future__ import annotations
@@ -63,16 +65,29 @@ def level_tracks(graph: PrefixGraph) -> dict[int, int]:
     return out
 
 
+def loads_excess(graph: PrefixGraph, bound: int) -> int:
+    """Units over ``bound`` of ``prefix_figures.value_loads`` (cell inputs one value drives, anywhere),
+    summed over every value."""
+    reads: dict[int, int] = {}
+    for c in graph.cells:
+        reads[c.hi] = reads.get(c.hi, 0) + 1
+        reads[c.lo] = reads.get(c.lo, 0) + 1
+    return sum(max(0, x - bound) for x in reads.values())
+
+
 @dataclass(frozen=True)
 class Bounds:
     levels: int
     fanout: int | None = None
     tracks: int | None = None
+    loads: int | None = None  # value_loads, the circuit's fanout
 
     def excess(self, graph: PrefixGraph) -> int:
         over = 0
         if self.fanout is not None:
             over += fanout_excess(graph, self.fanout)
+        if self.loads is not None:
+            over += loads_excess(graph, self.loads)
         if self.tracks is not None:
             over += sum(max(0, t - self.tracks) for t in level_tracks(graph).values())
         return over
@@ -138,6 +153,8 @@ def evaluate(grid: list[list[int]], n: int, bounds: Bounds):
     over = 0
     F = bounds.fanout
     T = bounds.tracks
+    R = bounds.loads
+    reads = [0] * n  # cell inputs the current value of each column has driven so far
     for row in grid:
         low0 = low[:]
         dep0 = dep[:]
@@ -162,6 +179,14 @@ def evaluate(grid: list[list[int]], n: int, bounds: Bounds):
             loads[d] = loads.get(d, 0) + 1
             if c > reach.get(d, -1):
                 reach[d] = c
+        if R is not None:  # reads see the values as they stood before the level; then new values start
+            changed = [c for c in range(1, n) if row[c] >= 0]
+            for c in changed:
+                reads[c] += 1
+                reads[row[c]] += 1
+            for c in changed:
+                over += max(0, reads[c] - R)
+                reads[c] = 0
         if F is not None:
             over += sum(max(0, 1 + x - F) for x in loads.values())
         if T is not None and reach:
@@ -176,6 +201,8 @@ def evaluate(grid: list[list[int]], n: int, bounds: Bounds):
             over += max(0, most - T)
     if any(low):
         return None
+    if R is not None:
+        over += sum(max(0, x - R) for x in reads)
     return cells, max(dep), over
 
 

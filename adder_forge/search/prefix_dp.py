@@ -1,32 +1,39 @@
 """Fewest cells for a prefix network of a given depth: a dynamic program over blocks of columns.
 
-The class of networks it searches is built from three ways of solving a block of adjacent columns, applied
-recursively with every split point and every depth budget (our formulation; the moves are the classic
-ones: the serial split of Ladner and Fischer 1980, the pairing of Brent and Kung 1982, the relative
-prefixes combined with a carry of Sklansky 1960):
+The class of networks it searches is built from a few ways of solving a block of adjacent columns, applied
+recursively with every split point and every depth budget (our formulation; the first moves are the
+classic ones: the serial split of Ladner and Fischer 1980, the pairing of Brent and Kung 1982 widened to
+groups, the relative prefixes combined with a carry of Sklansky 1960; the merge is ours):
 
 - ``bottom(m, D, T)``: the lowest m columns. Every column's prefix G[i:0] ready by depth D, except the top
   column's (which is also the block's total), ready by T.
 - ``upper(m, A, D, C)``: m columns above a carry G[s-1:0] that is ready at depth A. Every column's
-  G[i:0] ready by D, the top column's by C. (Nothing ever needs an upper block's own total G[top:s]:
-  a column holds one chain of values, and a total beside the column's prefix would be a second one.)
+  G[i:0] ready by D, the top column's by C.
 
 Moves, each counted in cells:
 - serial: split the block at a; the lower part's top prefix is the upper part's carry (its depth is
   chosen).
-- pair: join columns two by two (one level), solve the pairs as a block two levels shallower for all
-  but the top (the top one level), then fill in each pair's lower column from the column below it.
-  The lowest column may stay alone (offset 1), and an odd top column stays alone.
+- group (g, f, a): cut the block into groups of g adjacent columns (the lowest of f, the top one what is
+  left); each group's prefixes relative to its lowest column, its total by depth a; the group tops solved
+  as a block whose depths are shifted by a (ready by D - 1); then every other column of a group joins the
+  complete top of the group below (or the carry) at the last level. g = 2 is Brent and Kung's pairing.
 - relative (``upper`` only): the block's prefixes relative to its bottom as a ``bottom`` block one
   level shallower, then one cell a column joins the carry.
-- a single column above a carry: one cell.
+- merge (only inside a group move's block of group tops, whose groups' other columns have their
+  relative prefixes by the time the totals are ready): join neighbouring group tops two by two, as a
+  pairing would, but do not complete the lower top inside the block. Instead the lower top and every
+  column of both groups join the column below the lower group at the group move's last level; the upper
+  group's other columns first take the lower top's total (one cell each). The block of merged tops is
+  then due one level later than a pairing's would be (its columns need not complete the lower tops), and
+  a lower top skips every carry cell a relative move above it would give it. That is what lets a higher
+  column use a group's own total G[top:s] before the group gets its carry.
 
-Depth budgets only matter up to the depth asked for, so the state space is small: blocks up to n columns
-times a few depths. The program returns the construction as rows; ``from_rows`` then skips any pair that
-adds nothing (a driver that became complete earlier), so the built network has at most the cells the
-program counted, and its count is what is reported. It is exact within its class: at depth log2 n it
-reaches Sergeev 2013's exact minima at n = 16 and 32 only; at 64, 128 and 256 it gives Ladner and Fischer's
-P_0 (168, 369, 792 against 167, 364, 773; docs/search.md).
+States are (block size, carry depth, deadline for the block's columns, deadline for its top column) and,
+inside a group move, (group size, top group size, carry steps still to come); the construction comes back
+as rows. ``from_rows`` skips any pair that adds nothing, so the built network has at most the cells the
+program counted (the tests check it has exactly those). It is exact within its class; at depth log2 n
+it reaches Sergeev 2013's exact minima at n = 16, 32, 64 and 128 (31, 74, 167, 364) and is one cell above
+it at 256 (774 against 773); below Ladner and Fischer's P_0 from 64 on (docs/search.md).
 """
 
 from __future__ import annotations
@@ -41,11 +48,28 @@ def _min_depth(m: int) -> int:
     return (m - 1).bit_length()
 
 
+class _Groups:
+    """Emission state of one group move (the flag's creator): whose members fill from where, at the end."""
+
+    def __init__(self):
+        self.members: dict[int, list[int]] = {}  # group top -> its other columns
+        self.fill_from: dict[int, int] = {}  # member -> the complete column it joins at the last level
+        self.order: list[int] = []  # members and merged-away tops, in the order they were made
+        self.dropped: set[int] = set()  # merged-away tops: no carry cell, a late fill instead
+
+
 class Solver:
     """The program for one depth bound; ``cost(n)`` and ``ops(n)`` for the full network on n columns."""
 
-    def __init__(self, depth: int, deadline=None):
+    GROUP_MAX = 4  # widest group tried: 8 gave nothing more at 16 .. 256 inputs (docs/search.md)
+    MERGED_MAX = 64  # widest merged group
+    PEND_MAX = 3
+
+    def __init__(self, depth: int, deadline=None, rich: bool = True):
+        """``rich=False``: pairs only, no merges (the class of Ladner and Fischer's P_0, Brent-Kung and
+        Sklansky; much faster at large depths, where it already meets Snir's bound)."""
         self.depth = depth
+        self.rich = rich
         self.deadline = deadline  # a callable that raises to stop a long run (the --seconds budget)
         self._calls = 0
         self.bottom = lru_cache(maxsize=None)(self._bottom)
@@ -57,7 +81,10 @@ class Solver:
             self.deadline()
 
     # -- costs: (cells, move) with move a tuple describing the best choice -------------------------------------
-    def _bottom(self, m: int, D: int, T: int):
+    # ``fl`` is None or (s, sl, pend): the block's columns are tops of groups (s columns each, the top one sl)
+    # whose other columns join the column below the group at a later level, and pend carry steps will
+    # follow for every column still held; only then may two neighbouring groups merge.
+    def _bottom(self, m: int, D: int, T: int, fl=None):
         self._tick()
         if m == 1:
             return 0, ("leaf",)
@@ -65,21 +92,27 @@ class Solver:
         if _min_depth(m) > T or _min_depth(m - 1) > D:
             return BAD, None
         best = (BAD, None)
+        fl_low = None if fl is None else (fl[0], fl[0], fl[2])
         for a in range(1, m):
             for t1 in range(_min_depth(a), min(D, T - 1) + 1):
-                low = self.bottom(a, D, t1)[0]
+                low = self.bottom(a, D, t1, fl_low)[0]
                 if low >= best[0]:
                     continue
-                c = low + self.upper(m - a, t1, D, T)[0]
+                c = low + self.upper(m - a, t1, D, T, fl)[0]
                 if c < best[0]:
                     best = (c, ("serial", a, t1))
-        for off in (0, 1):
-            c = self._pair_cost(m, off, None, D, T)
+        for choice in self._group_choices(m):
+            c = self._group_cost(m, choice, None, D, T, best[0])
             if c < best[0]:
-                best = (c, ("pair", off))
+                best = (c, ("group",) + choice)
+        if fl is not None:
+            for off in (0, 1):
+                c = self._merge_cost(m, off, fl, None, D, T)
+                if c < best[0]:
+                    best = (c, ("merge", off))
         return best
 
-    def _upper(self, m: int, A: int, D: int, C: int):
+    def _upper(self, m: int, A: int, D: int, C: int, fl=None):
         self._tick()
         D, C = min(D, self.depth), min(C, self.depth)
         if A + 1 > C or (m > 1 and A + 1 > D) or max(A, _min_depth(m)) + 1 > C:
@@ -87,32 +120,85 @@ class Solver:
         if m == 1:
             return 1, ("leaf",)
         best = (BAD, None)
+        fl_low = None if fl is None else (fl[0], fl[0], fl[2])
         for a in range(1, m):
             for c1 in range(A + 1, D + 1):
-                low = self.upper(a, A, D, c1)[0]
+                low = self.upper(a, A, D, c1, fl_low)[0]
                 if low >= best[0]:
                     continue
-                c = low + self.upper(m - a, c1, D, C)[0]
+                c = low + self.upper(m - a, c1, D, C, fl)[0]
                 if c < best[0]:
                     best = (c, ("serial", a, c1))
         if A <= D - 1 and A <= C - 1:
-            c = self.bottom(m, D - 1, C - 1)[0] + m
+            fl_rel = None if fl is None else (fl[0], fl[1], min(fl[2] + 1, self.PEND_MAX))
+            c = self.bottom(m, D - 1, C - 1, fl_rel)[0] + m
             if c < best[0]:
                 best = (c, ("relative", C - 1))
-        for off in (0, 1):
-            c = self._pair_cost(m, off, A, D, C)
+        for choice in self._group_choices(m):
+            c = self._group_cost(m, choice, A, D, C, best[0])
             if c < best[0]:
-                best = (c, ("pair", off))
+                best = (c, ("group",) + choice)
+        if fl is not None:
+            for off in (0, 1):
+                c = self._merge_cost(m, off, fl, A, D, C)
+                if c < best[0]:
+                    best = (c, ("merge", off))
         return best
 
+    def _group_choices(self, m: int):
+        if not self.rich:
+            for f in (1, 2):
+                if f < m:
+                    yield 2, f, 1, False
+            return
+        for g in range(2, min(self.GROUP_MAX, m) + 1):
+            a0 = _min_depth(g)
+            for f in range(1, g + 1):
+                if f >= m:
+                    break
+                for a in (a0, a0 + 1):
+                    yield g, f, a, True
+                    if g > 2:
+                        yield g, f, a, False
+
     @staticmethod
-    def _pair_shape(m: int, off: int):
-        """Sub-columns of a paired block: (low, high) column pairs and lone columns, bottom up."""
-        groups = []
-        i = 0
-        if off:
-            groups.append((0,))
-            i = 1
+    def _group_shape(m: int, g: int, f: int):
+        """Sub-blocks of a grouped block, bottom up: the lowest of f columns, then g each (the top one
+        may be shorter)."""
+        groups = [list(range(f))]
+        i = f
+        while i < m:
+            groups.append(list(range(i, min(i + g, m))))
+            i += g
+        return groups
+
+    def _group_cost(self, m: int, choice, A, D: int, top: int, limit: int) -> int:
+        g, f, a, early = choice
+        groups = self._group_shape(m, g, f)
+        k = len(groups)
+        if k < 2 or k == m or D - 1 - a < 0 or top - a < 1:
+            return BAD
+        cost = 0
+        for i, grp in enumerate(groups):
+            size = len(grp)
+            if A is None and i == 0:  # the lowest group's prefixes are final: no fill
+                cost += self.bottom(size, D, a)[0]
+            else:  # early: every column of the group ready when its total is, so groups may merge later
+                cost += self.bottom(size, a if early else D - 1, a)[0] + size - 1
+            if cost >= limit:
+                return BAD
+        fl = (g, len(groups[-1]), 0) if early else None
+        if A is None:
+            return cost + self.bottom(k, D - 1 - a, top - a, fl)[0]
+        if len(groups[0]) > 1 and A + 1 > D:
+            return BAD
+        return cost + self.upper(k, max(A - a, 0), D - 1 - a, top - a, fl)[0]
+
+    @staticmethod
+    def _merge_shape(m: int, off: int):
+        """(lo, hi) index pairs and lone indices of a merge, bottom up."""
+        groups = [(0,)] if off else []
+        i = off
         while i + 1 < m:
             groups.append((i, i + 1))
             i += 2
@@ -120,20 +206,28 @@ class Solver:
             groups.append((i,))
         return groups
 
-    def _pair_cost(self, m: int, off: int, A, D: int, top: int) -> int:
-        if m < 2 or (off and m < 3) or D < 2 or top < 2:
+    def _merge_cost(self, m: int, off: int, fl, A, D: int, top: int) -> int:
+        s, sl, pend = fl
+        if D < 1 or top < 1 or (off and m < 3) or 2 * s > self.MERGED_MAX:
             return BAD
-        groups = self._pair_shape(m, off)
-        pairs = sum(1 for g in groups if len(g) == 2)
-        if pairs == 0:
-            return BAD
+        groups = self._merge_shape(m, off)
+        cost = 0
+        for grp in groups:
+            if len(grp) == 1:
+                continue
+            if A is None and grp[0] == 0:  # the lowest column is complete: an ordinary pair
+                cost += 1
+                continue
+            hi_size = sl if grp[1] == m - 1 else s
+            # the pair, one cell for each other column of the upper group, the late fill of the lower
+            # top, less the carry cells it no longer gets
+            cost += 1 + (hi_size - 1) + 1 - pend
+        last_paired = len(groups[-1]) == 2
+        sub = (2 * s, s + sl if last_paired else sl, pend)
         k = len(groups)
-        if A is None:  # bottom: column 0 needs no fill when it is the low column of the first pair
-            fills = pairs - (0 if off else 1)
-            return pairs + fills + self.bottom(k, D - 2, top - 1)[0]
-        if not off and A + 1 > D:
-            return BAD
-        return pairs + pairs + self.upper(k, max(A - 1, 0), D - 2, top - 1)[0]
+        if A is None:
+            return cost + self.bottom(k, D - 1, top - 1, sub)[0]
+        return cost + self.upper(k, max(A - 1, 0), D - 1, top - 1, sub)[0]
 
     # -- the construction ---------------------------------------------------------------------------------------
     def cost(self, n: int) -> int:
@@ -147,60 +241,92 @@ class Solver:
         limit = sys.getrecursionlimit()
         sys.setrecursionlimit(max(limit, 10000))
         try:
-            self._emit_bottom(list(range(n)), self.depth, self.depth, out)
+            self._emit_bottom(list(range(n)), self.depth, self.depth, None, None, out)
         finally:
             sys.setrecursionlimit(limit)
         return out
 
-    def _emit_bottom(self, cols, D, T, out):
+    def _emit_bottom(self, cols, D, T, fl, ctx, out):
         m = len(cols)
-        _, move = self.bottom(m, D, T)
+        _, move = self.bottom(m, D, T, fl)
         if move[0] == "leaf":
             return
         if move[0] == "serial":
             _, a, t1 = move
-            self._emit_bottom(cols[:a], D, t1, out)
-            self._emit_upper(cols[a:], cols[a - 1], t1, D, T, out)
-            return
-        self._emit_pair(cols, move[1], None, None, D, T, out)
+            fl_low = None if fl is None else (fl[0], fl[0], fl[2])
+            self._emit_bottom(cols[:a], D, t1, fl_low, ctx, out)
+            self._emit_upper(cols[a:], cols[a - 1], t1, D, T, fl, ctx, out)
+        elif move[0] == "group":
+            self._emit_group(cols, move[1:], None, None, D, T, out)
+        else:
+            self._emit_merge(cols, move[1], fl, ctx, None, None, D, T, out)
 
-    def _emit_upper(self, cols, carry, A, D, C, out):
+    def _emit_upper(self, cols, carry, A, D, C, fl, ctx, out):
         m = len(cols)
-        _, move = self.upper(m, A, D, C)
+        _, move = self.upper(m, A, D, C, fl)
         if move[0] == "leaf":
             out.append((cols[0], carry))
-            return
-        if move[0] == "serial":
+        elif move[0] == "serial":
             _, a, c1 = move
-            self._emit_upper(cols[:a], carry, A, D, c1, out)
-            self._emit_upper(cols[a:], cols[a - 1], c1, D, C, out)
-            return
-        if move[0] == "relative":
-            self._emit_bottom(cols, D - 1, move[1], out)
+            fl_low = None if fl is None else (fl[0], fl[0], fl[2])
+            self._emit_upper(cols[:a], carry, A, D, c1, fl_low, ctx, out)
+            self._emit_upper(cols[a:], cols[a - 1], c1, D, C, fl, ctx, out)
+        elif move[0] == "relative":
+            fl_rel = None if fl is None else (fl[0], fl[1], min(fl[2] + 1, self.PEND_MAX))
+            self._emit_bottom(cols, D - 1, move[1], fl_rel, ctx, out)
             for c in cols:
-                out.append((c, carry))
-            return
-        self._emit_pair(cols, move[1], carry, A, D, C, out)
-
-    def _emit_pair(self, cols, off, carry, A, D, top, out):
-        groups = self._pair_shape(len(cols), off)
-        subcols = []
-        for g in groups:
-            if len(g) == 2:
-                out.append((cols[g[1]], cols[g[0]]))
-            subcols.append(cols[g[-1]])
-        if carry is None:
-            self._emit_bottom(subcols, D - 2, top - 1, out)
+                if ctx is None or c not in ctx.dropped:
+                    out.append((c, carry))
+        elif move[0] == "group":
+            self._emit_group(cols, move[1:], carry, A, D, C, out)
         else:
-            self._emit_upper(subcols, carry, max(A - 1, 0), D - 2, top - 1, out)
-        for g in groups:
-            if len(g) == 2:
-                lo = cols[g[0]]
-                if g[0] == 0:
-                    if carry is not None:
-                        out.append((lo, carry))
-                else:  # the (super-)column just below, whose prefix is complete by now
-                    out.append((lo, cols[g[0] - 1]))
+            self._emit_merge(cols, move[1], fl, ctx, carry, A, D, C, out)
+
+    def _emit_group(self, cols, choice, carry, A, D, top, out):
+        g, f, a, early = choice
+        groups = [[cols[i] for i in grp] for grp in self._group_shape(len(cols), g, f)]
+        ctx = _Groups()
+        for i, grp in enumerate(groups):  # each group's prefixes relative to its own lowest column
+            final = carry is None and i == 0
+            self._emit_bottom(grp, D if final else (a if early else D - 1), a, None, None, out)
+            if not final:
+                ctx.members[grp[-1]] = grp[:-1]
+                for c in grp[:-1]:
+                    ctx.fill_from[c] = carry if i == 0 else groups[i - 1][-1]
+                    ctx.order.append(c)
+        subcols = [grp[-1] for grp in groups]
+        fl = (g, len(groups[-1]), 0) if early else None
+        if carry is None:
+            self._emit_bottom(subcols, D - 1 - a, top - a, fl, ctx, out)
+        else:
+            self._emit_upper(subcols, carry, max(A - a, 0), D - 1 - a, top - a, fl, ctx, out)
+        for c in ctx.order:  # then every other column from the complete column below its group
+            out.append((c, ctx.fill_from[c]))
+
+    def _emit_merge(self, cols, off, fl, ctx, carry, A, D, top, out):
+        groups = self._merge_shape(len(cols), off)
+        subcols = []
+        for grp in groups:
+            if len(grp) == 2:
+                lo, hi = cols[grp[0]], cols[grp[1]]
+                if carry is None and grp[0] == 0:
+                    out.append((hi, lo))  # an ordinary pair: the lowest column is complete
+                else:
+                    below = carry if grp[0] == 0 else cols[grp[0] - 1]
+                    for c in ctx.members.get(hi, []):  # the upper group's columns reach down to lo's group
+                        out.append((c, lo))
+                        ctx.fill_from[c] = below
+                    out.append((hi, lo))
+                    ctx.dropped.add(lo)
+                    ctx.fill_from[lo] = below
+                    ctx.order.append(lo)
+                    ctx.members[hi] = ctx.members.get(lo, []) + [lo] + ctx.members.get(hi, [])
+            subcols.append(cols[grp[-1]])
+        sub = (2 * fl[0], fl[0] + fl[1] if len(groups[-1]) == 2 else fl[1], fl[2])
+        if carry is None:
+            self._emit_bottom(subcols, D - 1, top - 1, sub, ctx, out)
+        else:
+            self._emit_upper(subcols, carry, max(A - 1, 0), D - 1, top - 1, sub, ctx, out)
 
 
 def rows_from_ops(n: int, ops) -> list[list[tuple[int, int]]]:

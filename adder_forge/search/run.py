@@ -2,9 +2,10 @@
 
 The search (docs/search.md):
 1. Starts: every classic network (``prefix_networks.NETWORKS``, Knowles fanout lists, Harris taxonomy
-   points) that meets the bounds, and the dynamic program's fewest-cell network at each depth up to the
-   level bound (``prefix_dp``: exact within its class of serial, pairing and relative moves; at depth
-   d > log2 n it meets Snir's bound where zero-deficiency networks exist).
+   points) and the read-twice network (``read_twice``: 2 loads per value) that meet the bounds, and the
+   dynamic program's fewest-cell network at each depth up to the level bound (``prefix_dp``: exact within
+   its class of serial, group, relative and merge moves; Sergeev 2013's minima at depth log2 n up to 128
+   inputs; at depth d > log2 n it meets Snir's bound where zero-deficiency networks exist).
 2. The best start under the objective is polished by simulated annealing (``local``) under the bounds,
    in rounds; ``--seconds`` decides how many rounds fit, the file records the number, and
    ``--rounds`` reproduces the run exactly (the work is a pure function of the request and the seed).
@@ -23,7 +24,7 @@ from __future__ import annotations
 import time
 from dataclasses import dataclass, field
 
-from ..analysis.prefix_figures import prefix_figures, sergeev_minimum
+from ..analysis.prefix_figures import prefix_figures, sergeev_minimum, value_loads
 from ..base.errors import NetworkError, ToolError, UsageError
 from ..base.progress import NULL, Progress
 from ..ir.network import PrefixGraph
@@ -33,6 +34,7 @@ from ..schemes.prefix_networks import NETWORKS, build, ceil_log2 as levels_of, f
 from ..spec.loader import make_spec
 from .local import Bounds, anneal
 from .prefix_dp import Solver, rows_from_ops
+from .read_twice import read_twice_rows
 
 OBJECTIVES = ("cells", "area-delay", "lut6")
 
@@ -49,6 +51,7 @@ class Request:
     rounds: int | None = None  # fixed number of annealing rounds (reproduces a run); None: as time allows
     carry_in: bool = False
     verify: bool = True
+    max_loads: int | None = None  # value_loads: cell inputs one value drives anywhere (circuit fanout)
 
     @property
     def inputs(self) -> int:
@@ -60,6 +63,8 @@ class Request:
             parts.append(f"--max-fanout {self.max_fanout}")
         if self.max_tracks is not None:
             parts.append(f"--max-tracks {self.max_tracks}")
+        if self.max_loads is not None:
+            parts.append(f"--max-loads {self.max_loads}")
         if self.carry_in:
             parts.append("--carry-in")
         parts += [f"--objective {self.objective}", f"--seed {self.seed}"]
@@ -84,6 +89,7 @@ class Found:
         r = self.request
         bound = f"-f{r.max_fanout}" if r.max_fanout is not None else ""
         bound += f"-t{r.max_tracks}" if r.max_tracks is not None else ""
+        bound += f"-r{r.max_loads}" if r.max_loads is not None else ""
         return f"searched-{r.inputs}-l{r.max_levels}{bound}"
 
     def file_text(self) -> str:
@@ -92,7 +98,8 @@ class Found:
         lines = [
             f"prefix network found by {r.command()} --rounds {self.rounds}",
             f"{f['prefix_nodes']} cells, {f['prefix_levels']} levels, depth {f['prefix_depth']}, fanout "
-            f"{f['prefix_fanout']}, {f['wire_tracks']} wire tracks (docs/prefix.md for the measures)",
+            f"{f['prefix_fanout']}, {f['wire_tracks']} wire tracks (docs/prefix.md for the measures), "
+            f"{value_loads(self.graph)} loads (cell inputs one value drives anywhere, docs/search.md)",
             f"Snir gap {f['prefix_snir_gap']} (cells + depth - (2n - 2), Snir 1986)"
             + (f"; {f['prefix_min_gap']} over Sergeev 2013's exact minimum {sergeev_minimum(r.inputs)} at depth "
                f"{f['prefix_depth']}" if f["prefix_min_gap"] is not None else ""),
@@ -127,6 +134,9 @@ def check_request(r: Request) -> None:
                          "--max-fanout")
     if r.max_tracks is not None and r.max_tracks < 1:
         raise UsageError(f"--max-tracks must be 1 or more, got {r.max_tracks}", "search", "--max-tracks")
+    if r.max_loads is not None and r.max_loads < 2:
+        raise UsageError(f"--max-loads must be 2 or more (a column's next cell and one more reader), got "
+                         f"{r.max_loads}", "search", "--max-loads")
     if r.objective not in OBJECTIVES:
         from ..spec.registry import shown, suggest
 
@@ -174,7 +184,12 @@ def _score(objective: str, g: PrefixGraph) -> float:
 
 
 def dp_network(n: int, depth: int, deadline=None) -> PrefixGraph:
-    s = Solver(depth, deadline)
+    """The program's network: the pairs-only class first, the full class only where that one is above
+    Snir's bound (no network of depth <= d has fewer than 2n - 2 - d cells) and above Sergeev's minimum."""
+    s = Solver(depth, deadline, rich=False)
+    floor = max(2 * n - 2 - depth, sergeev_minimum(n) or 0 if depth == levels_of(n) else 0)
+    if s.cost(n) > floor:
+        s = Solver(depth, deadline)
     return from_rows(n, rows_from_ops(n, s.ops(n)), f"dp-depth{depth}")
 
 
@@ -192,12 +207,13 @@ def search(r: Request, progress: Progress = NULL) -> Found:
         if r.rounds is None and time.monotonic() > end:
             raise _OutOfTime
 
-    bounds = Bounds(r.max_levels, r.max_fanout, r.max_tracks)
+    bounds = Bounds(r.max_levels, r.max_fanout, r.max_tracks, r.max_loads)
     starts: list[tuple[str, PrefixGraph]] = []
     progress.note(f"search: {n} inputs, at most {r.max_levels} levels"
                   + (f", fanout {r.max_fanout}" if r.max_fanout else "")
-                  + (f", {r.max_tracks} tracks" if r.max_tracks else "") + f", objective {r.objective}")
-    for name, g in classic_starts(n):
+                  + (f", {r.max_tracks} tracks" if r.max_tracks else "")
+                  + (f", {r.max_loads} loads" if r.max_loads else "") + f", objective {r.objective}")
+    for name, g in classic_starts(n) + [("read-twice", from_rows(n, read_twice_rows(n), "read-twice"))]:
         if bounds.met(g):
             starts.append((name, g))
     least = levels_of(n)

