@@ -198,6 +198,23 @@ def test_simulated_at_sampled_widths(simulator, tmp_path):
         assert o.ok and o.passed > 0, (o.name, o.first, o.log)
 
 
+@pytest.mark.synth
+@pytest.mark.formal
+@pytest.mark.parametrize("scheme,keys", [
+    ("carry-select", dict(block=4)), ("carry-skip", dict(block=4)), ("block-lookahead", dict(block=4)),
+    ("block-lookahead", dict(block=1, group=8)),  # the widest lookahead unit: one level up to 8 bits, two at 9
+])
+def test_block_at_least_as_wide_as_the_adder(scheme, keys):
+    """A block as wide as the adder or wider, with both carry ports: one block whose carry out is read. In the
+    sample above only carry-skip reaches that case (carry-select and block-lookahead have a single block there
+    only without a carry-in or without a carry out), and no configuration has the largest lookahead group."""
+    spec, verilog = _module("pv_one", scheme, dict(keys, carry_in=True, carry_out=True))
+    widths = (1, 2, 3, 4, 8, 9)
+    for c in pw.structure(spec, verilog, widths):
+        assert c.same and c.flat.total > 0, (c.width, c.flat, c.param)
+    assert [p.ok for p in pw.prove(spec, verilog, widths)] == [True] * len(widths)
+
+
 @pytest.mark.sim
 def test_a_wrong_module_fails_in_simulation_and_proof(tmp_path):
     """The checks can fail: a carry operator with its OR turned into an AND at one level is caught."""
