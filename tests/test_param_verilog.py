@@ -61,7 +61,7 @@ def test_form_key_default_and_parameterized():
 BAD = [
     # (spec text, line:col, key, words)
     ("form: flatt\n", "4:7", "form", ["unknown form 'flatt'", "did you mean 'flat'"]),
-    ("form: 3\n", "4:7", "form", ["'form' must be one of flat, parameterized"]),
+    ("form: 3\n", "4:7", "form", ["'form' must be one of flat, kept, parameterized"]),
 ]
 UNSUPPORTED = [
     ("scheme: lookahead\nform: parameterized\n", "4:7", ["not available for scheme 'lookahead'"]),

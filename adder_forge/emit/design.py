@@ -10,7 +10,7 @@ from ..schemes import elaborate
 from .summary import header_lines, design_summary, to_json
 from ..spec.loader import Spec
 from .testbench import Testbench, clocking_summary, emit_testbench, line_bits, line_bytes
-from .verilog import emit_module
+from .verilog import KEEP_ROLES, emit_module
 from .vectors import plan_for
 
 TB_EXHAUSTIVE_LIMIT = 1 << 20  # the emitted testbench enumerates every input up to this many vectors
@@ -72,7 +72,7 @@ def design(spec: Spec, net: Network | None = None, tb_random: int = TB_RANDOM, s
         from .param_verilog import emit_param
 
         verilog = emit_param(spec, header)
-    else:
-        verilog = emit_module(net, header)
+    else:  # flat, or kept: the same module with (* keep *) on the structure's nets
+        verilog = emit_module(net, header, keep=KEEP_ROLES if spec.form == "kept" else frozenset())
     clocked = clocking_summary(iface)  # the simulators' rows say how a pipelined adder was driven
     return Design(spec, net, m, verilog, tb, plan.describe() + tb.pick.summary() + (f"; {clocked}" if clocked else ""))

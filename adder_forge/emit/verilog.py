@@ -133,6 +133,12 @@ def register_process(net: Network) -> list[str]:
     return lines
 
 
+# Roles whose wires ``form: kept`` (and the structure-kept FPGA flow) mark (* keep *): every carry, prefix
+# cell, select and skip, so that a mapper still packs gates into LUTs but cannot rebuild the carry logic
+# (docs/fpga.md, "Flattened or kept"). Bitwise generate/propagate and sums stay free.
+KEEP_ROLES = frozenset({"carry", "prefix", "select", "block_pg", "skip", "lookahead"})
+
+
 def emit_module(net: Network, header: list[str], keep: frozenset[str] = frozenset()) -> str:
     """The module's text. ``keep``: roles whose wires get ``(* keep *)``, so that synthesis must build each of
     them as a net of its own (the structure-kept FPGA flow keeps the carries this way)."""

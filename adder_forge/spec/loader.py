@@ -28,10 +28,12 @@ MAX_SPEC_BYTES = 16 << 20  # a spec is a few lines; this bounds what a mistaken 
 
 # Keys every spec may carry; a scheme declares the rest (registry.Option).
 COMMON_KEYS = ("name", "width", "scheme", "carry_in", "carry_out", "form", "operation", "overflow", "pipeline")
-# The shapes NAME.v can take: one module fixed to the spec's width, gate by gate (flat), or one module with
-# a WIDTH parameter whose generate loops build the same structure at any width (emit/param_verilog.py,
+# The shapes NAME.v can take: one module fixed to the spec's width, gate by gate (flat); the same module with
+# (* keep *) on every carry, prefix, select and skip net, so that FPGA synthesis builds the structure as
+# written instead of re-mapping it (kept; emit/verilog.py KEEP_ROLES, docs/fpga.md); or one module with a
+# WIDTH parameter whose generate loops build the same structure at any width (emit/param_verilog.py,
 # which also says which schemes have that form).
-FORMS = ("flat", "parameterized")
+FORMS = ("flat", "kept", "parameterized")
 OPERATIONS = ("add", "subtract", "add-subtract")  # what the adder computes (ir/interface.py says how)
 _OPERATION_ALIASES = {"sub": "subtract", "minus": "subtract", "addsub": "add-subtract", "add_subtract": "add-subtract",
                       "add/subtract": "add-subtract", "add-sub": "add-subtract", "plus": "add"}
@@ -373,8 +375,8 @@ def from_mapping(data: dict[str, Any], source: str, pos: dict[str, tuple[int, in
     positions = tuple((k, *pos[k]) for k in pos if k in data or k.startswith("pipeline."))
     spec = Spec(name, width, scheme_name, flags["carry_in"], flags["carry_out"], tuple(options), source, positions,
                 form, operation, flags["overflow"], pipe)
-    if pipe.clocked and form != "flat":
-        fail_at("pipeline", f"'pipeline' takes the flat form only; the {form} form has no register stages "
+    if pipe.clocked and form == "parameterized":
+        fail_at("pipeline", f"'pipeline' takes the flat or kept form only; the {form} form has no register stages "
                             "(leave out 'form' or 'pipeline')")
     if sch.validate is not None:
         sch.validate(spec)

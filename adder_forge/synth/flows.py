@@ -275,10 +275,7 @@ DEVICES: dict[str, Device] = {
                        "--lpf-allow-unconstrained"),
 }
 ECP5_SEED = 1
-# Roles whose wires the structure-kept variant marks (* keep *) (emit_module's ``keep``): every carry, prefix
-# cell, select and skip, so that the mapper still packs gates into LUTs but cannot rebuild the carry logic
-# (docs/fpga.md, "Flattened or kept"). Bitwise generate/propagate and sums stay free.
-KEEP_ROLES = frozenset({"carry", "prefix", "select", "block_pg", "skip", "lookahead"})
+from ..emit.verilog import KEEP_ROLES  # noqa: E402,F401  (the structure-kept flow's roles; form: kept)
 
 
 def fpga_script(top: str, dev: Device) -> str:
