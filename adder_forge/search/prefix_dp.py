@@ -108,16 +108,7 @@ class Solver:
                 c = low + self.upper(m - a, t1, D, T, fl)[0]
                 if c < best[0]:
                     best = (c, ("serial", a, t1))
-        for choice in self._group_choices(m):
-            c = self._group_cost(m, choice, None, D, T, best[0])
-            if c < best[0]:
-                best = (c, ("group",) + choice)
-        if fl is not None:
-            for off in (0, 1):
-                c = self._merge_cost(m, off, fl, None, D, T)
-                if c < best[0]:
-                    best = (c, ("merge", off))
-        return best
+        return self._grouped(m, None, D, T, fl, best)
 
     def _upper(self, m: int, A: int, D: int, C: int, fl=None):
         self._tick()
@@ -141,13 +132,18 @@ class Solver:
             c = self.bottom(m, D - 1, C - 1, fl_rel)[0] + m
             if c < best[0]:
                 best = (c, ("relative", C - 1))
+        return self._grouped(m, A, D, C, fl, best)
+
+    def _grouped(self, m: int, carry, D: int, T: int, fl, best):
+        """``best`` improved by the group moves and, with pending fills, the merge moves: the same for a
+        bottom block (``carry`` None) and an upper one (``carry`` the carry's depth)."""
         for choice in self._group_choices(m):
-            c = self._group_cost(m, choice, A, D, C, best[0])
+            c = self._group_cost(m, choice, carry, D, T, best[0])
             if c < best[0]:
                 best = (c, ("group",) + choice)
         if fl is not None:
             for off in (0, 1):
-                c = self._merge_cost(m, off, fl, A, D, C)
+                c = self._merge_cost(m, off, fl, carry, D, T)
                 if c < best[0]:
                     best = (c, ("merge", off))
         return best
