@@ -37,6 +37,7 @@ from ..base.errors import ToolError, UsageError
 from ..base.records import Figure
 from ..spec.registry import shown, suggest
 from ..base.tools import Command, Result, find, package_version, run
+from ..emit.verilog import KEEP_ROLES  # noqa: F401  (re-exported: the structure-kept flow's roles, form: kept)
 
 GATES = "AND,NAND,OR,NOR,XOR,XNOR,ANDNOT,ORNOT,MUX"
 # Balance, then map for depth (inside `-script +...` commas stand for spaces); measured in docs/toolchain.md.
@@ -275,7 +276,6 @@ DEVICES: dict[str, Device] = {
                        "--lpf-allow-unconstrained"),
 }
 ECP5_SEED = 1
-from ..emit.verilog import KEEP_ROLES  # noqa: E402,F401  (the structure-kept flow's roles; form: kept)
 
 
 def fpga_script(top: str, dev: Device) -> str:
@@ -365,7 +365,7 @@ def critical_path(paths: list) -> dict | None:
             counts["luts"] += 1
             steps.append("L")
     text, k = [], 0
-    for i, t in enumerate(steps + [""]):  # runs of chain steps as c*k
+    for t in steps + [""]:  # runs of chain steps as c*k
         if t == "c":
             k += 1
             continue
